@@ -1,0 +1,2 @@
+# SPDX-License-Identifier: MIT
+# Automake fragment of src/feed, included by Makefile.am.

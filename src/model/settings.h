@@ -1,0 +1,97 @@
+/* SPDX-License-Identifier: MIT */
+/*
+ * settings.h - the site's settings and the model's parameters.
+ *
+ * One struct holds every number the model and the disposition policy use.
+ * sx_settings_defaults() fills it with the values documented in docs/model.md
+ * (each with its source); the ruleset overrides them. A parameter with a
+ * published range carries it as {low, nominal, high}: the estimate uses the
+ * nominal value and the interval uses the range.
+ */
+#ifndef SX_SETTINGS_H
+#define SX_SETTINGS_H
+
+#include <stddef.h>
+
+#include "core/status.h"
+#include "core/units.h"
+
+typedef struct sx_range {
+	double low, nominal, high;
+} sx_range;
+
+typedef struct sx_settings {
+	/* site */
+	double site_altitude_m;        /* used when the record has neither field */
+	double barometric_mmhg;        /* > 0 overrides the altitude */
+	double room_temp_c;            /* where specimens wait */
+	double room_rel_humidity;      /* fraction */
+	double iced_temp_c;            /* ice-water slurry */
+	double warm_temp_c;            /* kept warm / body temperature */
+	int utc_offset_min;            /* assumed for times without offset */
+
+	/* blood defaults when the record lacks them */
+	double default_hb;             /* g/dL */
+	double default_ph;
+	double default_pco2;           /* mmHg */
+	double hufner;                 /* mL O2 per g Hb */
+
+	/* metabolism */
+	sx_range blood_vo2_37;         /* mL O2/dL/min at 37 C, normal blood */
+	sx_range wbc_vo2_37;           /* mL O2/dL/min per 10^9/L leukocytes at 37 C */
+	double wbc_reference;          /* 10^9/L already counted in blood_vo2_37 */
+	sx_range platelet_vo2_37;      /* mL O2/dL/min per 10^9/L platelets at 37 C */
+	double platelet_reference;     /* 10^9/L already counted in blood_vo2_37 */
+	sx_range q10;                  /* temperature factor per 10 C */
+	double time_uncertainty_min;   /* half-width when times are to the minute */
+
+	/* consistency */
+	double resp_quotient;
+	double alveolar_tolerance_mmhg;     /* pO2 may exceed PAO2 by this much ... */
+	double alveolar_tolerance_fraction; /* ... or this fraction of PAO2 */
+
+	/* disposition policy */
+	double allowable_error_mmhg;   /* analyser's allowable error: the larger of */
+	double allowable_error_fraction; /* mmHg and fraction of the reading */
+	double reject_factor;          /* reject when |bias| > factor x allowable */
+	double delay_limit_room_min;   /* plastic at room temperature */
+	double delay_limit_iced_min;
+	double delay_reject_min;       /* any storage */
+	double high_wbc;               /* 10^9/L: time limit shortens */
+	double delay_limit_high_wbc_min;
+} sx_settings;
+
+void sx_settings_defaults(sx_settings *settings);
+
+/*
+ * The parameter registry: every setting by its dotted name as a ruleset
+ * writes it ("site.altitude", "metabolism.q10", "policy.allowable_error"),
+ * with its quantity (for units), its possible range and its meaning. A
+ * parameter of kind SX_PARAM_RANGE holds {low, nominal, high}.
+ */
+typedef enum sx_param_kind {
+	SX_PARAM_SCALAR,
+	SX_PARAM_RANGE,
+	SX_PARAM_OFFSET,   /* a UTC offset in minutes, written +01:00 */
+} sx_param_kind;
+
+typedef struct sx_param_info {
+	const char *name;
+	sx_param_kind kind;
+	sx_quantity quantity;   /* SX_Q_NONE: bare number, or unit_label literally */
+	const char *unit_label; /* the internal unit as docs write it */
+	size_t offset;          /* into sx_settings */
+	double min, max;        /* possible values, internal unit */
+	const char *meaning;
+} sx_param_info;
+
+size_t sx_param_count(void);
+const sx_param_info *sx_param_at(size_t index);
+const sx_param_info *sx_param_lookup(const char *name, size_t len);
+/* Set a scalar (or the nominal of a range) in internal units; SX_ERANGE outside. */
+sx_status sx_param_set(sx_settings *settings, const sx_param_info *param, double value);
+/* Set a range; needs low <= nominal <= high, all within min..max. */
+sx_status sx_param_set_range(sx_settings *settings, const sx_param_info *param, sx_range r);
+sx_range sx_param_get(const sx_settings *settings, const sx_param_info *param);
+
+#endif

@@ -1,0 +1,33 @@
+/* SPDX-License-Identifier: MIT */
+/*
+ * cli.h - what the sub-commands share: printing diagnostics, finding the
+ * shipped data files, exit statuses.
+ */
+#ifndef SX_CLI_H
+#define SX_CLI_H
+
+#include <stdio.h>
+
+#include "core/diag.h"
+
+/* Exit statuses of every sub-command (documented in syrinx(1)). */
+enum {
+	SX_EXIT_OK = 0,
+	SX_EXIT_INPUT = 1,     /* some input could not be read or screened */
+	SX_EXIT_USAGE = 2,     /* the command line is wrong */
+	SX_EXIT_FAIL_ON = 3,   /* --fail-on: a disposition at or above the level was seen */
+	SX_EXIT_SOFTWARE = 4,  /* out of memory or an internal error */
+};
+
+/* Print one diagnostic as file:line[:col]: severity: [specimen ID: ]message. */
+void sx_cli_print_diag(FILE *out, const sx_diag *d);
+void sx_cli_print_diags(FILE *out, const sx_diag_list *list);
+
+/* Find a shipped data file (relative path as in the source tree, such as
+ * "docs/schema/feed.xsd"): $SYRINX_DATADIR, then beside the executable (build
+ * tree), then the installed data directory. Returns a malloc'd path or NULL. */
+char *sx_cli_find_data(const char *relative);
+
+int sx_cmd_check(int argc, char **argv);
+
+#endif

@@ -1,0 +1,118 @@
+/* SPDX-License-Identifier: MIT */
+/*
+ * main.c - the syrinx command: dispatch to sub-commands, shared helpers.
+ */
+#include <limits.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <unistd.h>
+
+#include "cli/cli.h"
+#include "core/alloc.h"
+
+#ifndef SX_PKGDATADIR
+#define SX_PKGDATADIR "/usr/local/share/syrinx"
+#endif
+
+static const char usage[] =
+	"usage: syrinx <command> [options] [FILE...]\n"
+	"\n"
+	"Screens blood-gas specimens for preanalytical error in pO2: how far the\n"
+	"reading is likely off, why, and whether to accept, comment or reject.\n"
+	"\n"
+	"commands:\n"
+	"  check     screen specimens from XML feed files or standard input\n"
+	"\n"
+	"  syrinx <command> --help   shows the command's options\n"
+	"  syrinx --version          shows the version\n"
+	"\n"
+	"Caution: decision support for the laboratory's own acceptance procedure;\n"
+	"not a corrected result for clinical use; local policy and the laboratory\n"
+	"director decide. See syrinx(1) and docs/ for more.\n";
+
+void sx_cli_print_diag(FILE *out, const sx_diag *d)
+{
+	fputs(d->file ? d->file : "syrinx", out);
+	if (d->line)
+		fprintf(out, ":%u", d->line);
+	if (d->line && d->column)
+		fprintf(out, ":%u", d->column);
+	fprintf(out, ": %s: ", sx_severity_name(d->severity));
+	if (d->specimen_id)
+		fprintf(out, "specimen %s: ", d->specimen_id);
+	fprintf(out, "%s\n", d->message);
+}
+
+void sx_cli_print_diags(FILE *out, const sx_diag_list *list)
+{
+	for (size_t i = 0; i < list->count; i++)
+		sx_cli_print_diag(out, &list->items[i]);
+	if (list->dropped)
+		fprintf(out, "syrinx: note: %zu further diagnostics were not kept\n", list->dropped);
+}
+
+static char *join(const char *dir, const char *rel)
+{
+	size_t n = strlen(dir) + strlen(rel) + 2;
+	char *p = sx_malloc(n);
+	if (p)
+		snprintf(p, n, "%s/%s", dir, rel);
+	return p;
+}
+
+static char *try_path(const char *dir, const char *rel)
+{
+	char *p = join(dir, rel);
+	if (p && access(p, R_OK) == 0)
+		return p;
+	sx_free(p);
+	return NULL;
+}
+
+char *sx_cli_find_data(const char *rel)
+{
+	const char *env = getenv("SYRINX_DATADIR");
+	char exe[PATH_MAX];
+	ssize_t n;
+	char *p;
+
+	if (env && *env && (p = try_path(env, rel)))
+		return p;
+	n = readlink("/proc/self/exe", exe, sizeof exe - 1);
+	if (n > 0) {
+		char *slash;
+		exe[n] = '\0';
+		slash = strrchr(exe, '/');
+		if (slash) {
+			*slash = '\0';
+			if ((p = try_path(exe, rel)))
+				return p;
+		}
+	}
+	/* installed: docs/schema/feed.xsd lives at $(pkgdatadir)/schema/feed.xsd */
+	if (strncmp(rel, "docs/", 5) == 0 && (p = try_path(SX_PKGDATADIR, rel + 5)))
+		return p;
+	return try_path(SX_PKGDATADIR, rel);
+}
+
+int main(int argc, char **argv)
+{
+	if (argc < 2) {
+		fputs(usage, stderr);
+		return SX_EXIT_USAGE;
+	}
+	if (strcmp(argv[1], "--help") == 0 || strcmp(argv[1], "-h") == 0 ||
+	    strcmp(argv[1], "help") == 0) {
+		fputs(usage, stdout);
+		return SX_EXIT_OK;
+	}
+	if (strcmp(argv[1], "--version") == 0) {
+		printf("syrinx %s\n", PACKAGE_VERSION);
+		return SX_EXIT_OK;
+	}
+	if (strcmp(argv[1], "check") == 0)
+		return sx_cmd_check(argc - 1, argv + 1);
+	fprintf(stderr, "syrinx: '%s' is not a command\n\n%s", argv[1], usage);
+	return SX_EXIT_USAGE;
+}

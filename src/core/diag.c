@@ -112,6 +112,14 @@ sx_status sx_diag_add(sx_diag_list *list, sx_severity severity, sx_status code,
 sx_status sx_diag_list_move(sx_diag_list *dst, sx_diag_list *src)
 {
 	size_t need = dst->count + src->count;
+	if (src->count == 0) {
+		dst->dropped += src->dropped;
+		dst->errors += src->errors;
+		dst->warnings += src->warnings;
+		sx_free(src->items);
+		sx_diag_list_init(src);
+		return SX_OK;
+	}
 	if (need > dst->capacity) {
 		sx_diag *items = sx_realloc(dst->items, need * sizeof *items);
 		if (!items)

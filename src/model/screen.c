@@ -16,6 +16,8 @@
  */
 #include "model/screen.h"
 
+#include "core/alloc.h"
+
 #include <math.h>
 #include <stdio.h>
 
@@ -346,4 +348,43 @@ sx_status sx_screen_specimen(const sx_specimen *s, const sx_settings *st, sx_ver
 	sx_verdict_add_mechanism(v, "metabolism", v->bias_mmhg.estimate);
 	apply_policy(st, reading, v);
 	return SX_OK;
+}
+
+struct sx_screener {
+	sx_settings settings;
+};
+
+sx_status sx_screener_new(const sx_settings *settings, sx_screener **out)
+{
+	sx_screener *s = sx_calloc(1, sizeof *s);
+	*out = NULL;
+	if (!s)
+		return SX_ENOMEM;
+	if (settings)
+		s->settings = *settings;
+	else
+		sx_settings_defaults(&s->settings);
+	*out = s;
+	return SX_OK;
+}
+
+void sx_screener_free(sx_screener *s)
+{
+	sx_free(s);
+}
+
+const sx_settings *sx_screener_settings(const sx_screener *s)
+{
+	return &s->settings;
+}
+
+const char *sx_screener_version(const sx_screener *s)
+{
+	(void)s;
+	return "built-in 0.1";
+}
+
+sx_status sx_screener_run(const sx_screener *s, sx_specimen *specimen, sx_verdict *verdict)
+{
+	return sx_screen_specimen(specimen, &s->settings, verdict);
 }

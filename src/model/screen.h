@@ -18,4 +18,25 @@
 sx_status sx_screen_specimen(const sx_specimen *specimen, const sx_settings *settings,
 			     sx_verdict *verdict);
 
+/*
+ * A screener holds what screening needs besides the specimen: the settings
+ * and, once loaded, the ruleset. It is immutable after creation and may be
+ * shared by threads. This is the interface callers outside src/model use.
+ *
+ * Ownership: sx_screener_free() frees it (NULL is fine); the settings are
+ * copied.
+ */
+typedef struct sx_screener sx_screener;
+
+sx_status sx_screener_new(const sx_settings *settings, sx_screener **out);
+void sx_screener_free(sx_screener *screener);
+const sx_settings *sx_screener_settings(const sx_screener *screener);
+/* A short text naming the policy in force (the ruleset's version line),
+ * for logs and reports. */
+const char *sx_screener_version(const sx_screener *screener);
+/* Screen one specimen; the specimen may be completed in place (free text
+ * classified into fields). */
+sx_status sx_screener_run(const sx_screener *screener, sx_specimen *specimen,
+			  sx_verdict *verdict);
+
 #endif

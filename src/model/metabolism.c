@@ -14,15 +14,20 @@
 
 #include <math.h>
 
-double sx_metabolism_rate(const sx_metabolism_params *p, double wbc, double platelets,
-			  double temp_c)
+double sx_metabolism_rate_37(const sx_metabolism_params *p, double wbc, double platelets)
 {
 	double rate = p->blood_vo2_37;
 	if (wbc > p->wbc_reference)
 		rate += p->wbc_vo2_37 * (wbc - p->wbc_reference);
 	if (platelets > p->platelet_reference)
 		rate += p->platelet_vo2_37 * (platelets - p->platelet_reference);
-	return rate * pow(p->q10, (temp_c - 37.0) / 10.0);
+	return rate;
+}
+
+double sx_metabolism_rate(const sx_metabolism_params *p, double wbc, double platelets,
+			  double temp_c)
+{
+	return sx_metabolism_rate_37(p, wbc, platelets) * pow(p->q10, (temp_c - 37.0) / 10.0);
 }
 
 double sx_metabolism_consumed(const sx_metabolism_params *p, double wbc, double platelets,

@@ -34,6 +34,9 @@ typedef struct sx_phase {
 double sx_metabolism_rate(const sx_metabolism_params *p, double wbc, double platelets,
 			  double temp_c);
 
+/* The rate at 37 C, mL O2/dL/min (the part that does not depend on temperature). */
+double sx_metabolism_rate_37(const sx_metabolism_params *p, double wbc, double platelets);
+
 /* O2 consumed over the phases, mL O2/dL. */
 double sx_metabolism_consumed(const sx_metabolism_params *p, double wbc, double platelets,
 			      const sx_phase *phases, size_t count);

@@ -171,7 +171,7 @@ static int state_valid(const sx_blood_state *state)
  */
 sx_status sx_o2_po2_from_content(double content, const sx_blood_state *state, double *po2)
 {
-	double alpha, cap, lo, hi, p, next;
+	double alpha, cap, lo, hi, p, next, g;
 	int i;
 
 	if (!po2 || !isfinite(content) || content < 0.0 || !state_valid(state))
@@ -188,9 +188,12 @@ sx_status sx_o2_po2_from_content(double content, const sx_blood_state *state, do
 		*po2 = hi;
 		return SX_OK;
 	}
+	/* The curve's shift is the same at every pO2 of this state: compute it once (the
+	 * same arithmetic as sx_o2_content and sx_o2_sat_slope, so the same results). */
+	g = virtual_factor(state);
 	p = hi;
 	if (content < cap) {
-		double guess = sx_o2_po2_from_saturation(content / cap, state);
+		double guess = sx_o2_po2_standard(content / cap) / g;
 
 		if (guess > 0.0 && guess < hi)
 			p = guess;
@@ -198,7 +201,7 @@ sx_status sx_o2_po2_from_content(double content, const sx_blood_state *state, do
 	for (i = 0; i < CONTENT_ITER; i++) {
 		double resid, deriv, step;
 
-		resid = sx_o2_content(p, state) - content;
+		resid = (p <= 0.0 ? 0.0 : cap * sx_o2_sat_standard(p * g) + alpha * p) - content;
 		if (resid == 0.0) {
 			*po2 = p;
 			return SX_OK;
@@ -207,7 +210,7 @@ sx_status sx_o2_po2_from_content(double content, const sx_blood_state *state, do
 			hi = p;
 		else
 			lo = p;
-		deriv = cap * sx_o2_sat_slope(p, state) + alpha;
+		deriv = cap * (sat_standard_slope(p * g) * g) + alpha;
 		step = resid / deriv;
 		next = p - step;
 		/* converged: taken before the bracket test, because a step below

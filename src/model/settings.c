@@ -19,7 +19,8 @@ void sx_settings_defaults(sx_settings *s)
 	s->warm_temp_c = 37.0;
 	s->utc_offset_min = 0;
 
-	s->default_hb = 14.0;
+	/* Adult haemoglobin spans about 9-17 g/dL in hospital patients [M]. */
+	s->default_hb = (sx_range){9.0, 14.0, 17.0};
 	s->default_ph = 7.40;
 	s->default_pco2 = 40.0;
 	s->hufner = 1.39; /* theoretical [R]; 1.368 measured (Dijkhuizen 1977) */
@@ -36,6 +37,18 @@ void sx_settings_defaults(sx_settings *s)
 	/* Q10 2-3 [M]; ice at 10 % of the 37 C rate [R review] implies about 1.9. */
 	s->q10 = (sx_range){1.9, 2.0, 3.0};
 	s->time_uncertainty_min = 0.5;
+
+	/* A tube ride takes minutes (common practice); cooling time constants of a 1-3 mL
+	 * syringe from memory [M], wide. */
+	s->tube_ride_min = 3.0;
+	s->cooling_room_min = (sx_range){3.0, 8.0, 15.0};
+	s->cooling_ice_min = (sx_range){0.5, 1.5, 3.0};
+	s->samples = 64;
+	/* Cerveri et al. 1995: PaO2 predicted with SEE 7.5 mmHg [R]. */
+	s->prior_sd_mmhg = 7.5;
+	s->default_age_years = 50.0;
+	/* Pulse oximeters: bias and SD under 3 % above SaO2 83 % (Eur Respir J 1991) [R]. */
+	s->spo2_accuracy = 3.0;
 
 	s->resp_quotient = 0.8;
 	s->alveolar_tolerance_mmhg = 4.5;     /* 0.6 kPa, analyser performance [R, quoted] */
@@ -73,8 +86,8 @@ static const sx_param_info params[] = {
 	       "temperature of specimens kept warm"),
 	{"site.utc_offset", SX_PARAM_OFFSET, SX_Q_NONE, "+HH:MM", offsetof(sx_settings, utc_offset_min),
 	 -14 * 60, 14 * 60, "offset assumed for times sent without one"},
-	SCALAR("blood.default_hb", SX_Q_HAEMOGLOBIN, "g/dL", default_hb, 1, 25,
-	       "haemoglobin assumed when not given"),
+	RANGE("blood.default_hb", SX_Q_HAEMOGLOBIN, "g/dL", default_hb, 1, 25,
+	      "haemoglobin assumed when not given (a range)"),
 	SCALAR("blood.default_ph", SX_Q_NONE, "1", default_ph, 6.5, 8.0,
 	       "pH assumed when not given"),
 	SCALAR("blood.default_pco2", SX_Q_PRESSURE, "mmHg", default_pco2, 5, 150,
@@ -95,6 +108,20 @@ static const sx_param_info params[] = {
 	      "factor of the rate per 10 C of temperature"),
 	SCALAR("timing.uncertainty", SX_Q_DURATION, "min", time_uncertainty_min, 0, 60,
 	       "half-width of the time uncertainty for times to the minute"),
+	SCALAR("timeline.tube_ride", SX_Q_DURATION, "min", tube_ride_min, 0, 60,
+	       "how long a pneumatic-tube ride shakes the specimen"),
+	RANGE("timeline.cooling_room", SX_Q_DURATION, "min", cooling_room_min, 0.1, 60,
+	      "time constant of a syringe cooling in room air"),
+	RANGE("timeline.cooling_ice", SX_Q_DURATION, "min", cooling_ice_min, 0.1, 30,
+	      "time constant of a syringe cooling in ice water"),
+	SCALAR("estimate.samples", SX_Q_NONE, "1", samples, 1, 256,
+	       "Latin hypercube samples for the interval"),
+	SCALAR("estimate.prior_spread", SX_Q_PRESSURE, "mmHg", prior_sd_mmhg, 0.1, 100,
+	       "standard deviation of the expected pO2 when there is no reading"),
+	SCALAR("estimate.default_age", SX_Q_AGE, "a", default_age_years, 0, 130,
+	       "age assumed for the A-a gradient when not given"),
+	SCALAR("estimate.spo2_accuracy", SX_Q_PERCENT, "%", spo2_accuracy, 0.1, 20,
+	       "pulse oximeter accuracy (1 SD), % points"),
 	SCALAR("alveolar.respiratory_quotient", SX_Q_NONE, "1", resp_quotient, 0.6, 1.2,
 	       "respiratory exchange ratio R of the alveolar gas equation"),
 	SCALAR("alveolar.tolerance", SX_Q_PRESSURE, "mmHg", alveolar_tolerance_mmhg, 0, 100,

@@ -31,7 +31,7 @@ typedef struct sx_settings {
 	int utc_offset_min;            /* assumed for times without offset */
 
 	/* blood defaults when the record lacks them */
-	double default_hb;             /* g/dL */
+	sx_range default_hb;           /* g/dL: a population range when not given */
 	double default_ph;
 	double default_pco2;           /* mmHg */
 	double hufner;                 /* mL O2 per g Hb */
@@ -44,6 +44,17 @@ typedef struct sx_settings {
 	double platelet_reference;     /* 10^9/L already counted in blood_vo2_37 */
 	sx_range q10;                  /* temperature factor per 10 C */
 	double time_uncertainty_min;   /* half-width when times are to the minute */
+
+	/* timeline */
+	double tube_ride_min;          /* how long a pneumatic-tube ride shakes the specimen */
+	sx_range cooling_room_min;     /* time constant of cooling in room air */
+	sx_range cooling_ice_min;      /* time constant of cooling in ice water */
+
+	/* estimate */
+	double samples;                /* Latin hypercube samples for the interval */
+	double prior_sd_mmhg;          /* spread of the expected pO2 without a reading */
+	double default_age_years;      /* for the A-a gradient when the age is not given */
+	double spo2_accuracy;          /* pulse oximeter accuracy, % points (1 SD) */
 
 	/* consistency */
 	double resp_quotient;

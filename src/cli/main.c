@@ -23,6 +23,7 @@ static const char usage[] =
 	"\n"
 	"commands:\n"
 	"  check     screen specimens from XML feed files or standard input\n"
+	"  explain   show one specimen's timeline and what each mechanism did\n"
 	"\n"
 	"  syrinx <command> --help   shows the command's options\n"
 	"  syrinx --version          shows the version\n"
@@ -113,6 +114,8 @@ int main(int argc, char **argv)
 	}
 	if (strcmp(argv[1], "check") == 0)
 		return sx_cmd_check(argc - 1, argv + 1);
+	if (strcmp(argv[1], "explain") == 0)
+		return sx_cmd_explain(argc - 1, argv + 1);
 	fprintf(stderr, "syrinx: '%s' is not a command\n\n%s", argv[1], usage);
 	return SX_EXIT_USAGE;
 }

@@ -124,7 +124,8 @@ static void apply_policy(const sx_settings *st, double reading, sx_verdict *v)
 				      bias, allowable);
 }
 
-sx_status sx_screen_specimen(const sx_specimen *s, const sx_settings *st, sx_verdict *v)
+static sx_status screen(const sx_specimen *s, const sx_settings *st, sx_verdict *v,
+			sx_explanation *ex)
 {
 	sx_timeline tl;
 	sx_estimate_input in;
@@ -139,6 +140,10 @@ sx_status sx_screen_specimen(const sx_specimen *s, const sx_settings *st, sx_ver
 				       st->default_hb.nominal, st->default_hb.low,
 				       st->default_hb.high);
 	sx_timeline_build(s, st, &tl, v);
+	if (ex) {
+		ex->timeline = tl;
+		ex->has_trace = false;
+	}
 	if (sx_specimen_has(s, SX_F_COLLECTED_AT) && sx_specimen_has(s, SX_F_ANALYSED_AT) &&
 	    tl.total_min > SX_MAX_DELAY_MIN)
 		sx_verdict_add_reason(v, "delay-beyond-model", SX_REASON_REJECT, RULE_BUILTIN,
@@ -160,9 +165,14 @@ sx_status sx_screen_specimen(const sx_specimen *s, const sx_settings *st, sx_ver
 	if (!sx_specimen_has(s, SX_F_PO2) && !sx_specimen_has(s, SX_F_FIO2))
 		sx_verdict_add_warning(v, "fio2: not given; room air (0.21) assumed for the "
 					  "expected pO2");
-	status = sx_estimate_run(&in, &r, NULL);
+	status = sx_estimate_run(&in, &r, ex ? &ex->trace : NULL);
 	if (status != SX_OK)
 		return status;
+	if (ex) {
+		ex->timeline = tl;
+		ex->has_trace = true;
+		memcpy(ex->on, in.on, sizeof ex->on);
+	}
 	v->has_bias = true;
 	v->bias_mmhg = r.bias;
 	v->has_before = r.has_before;
@@ -173,6 +183,11 @@ sx_status sx_screen_specimen(const sx_specimen *s, const sx_settings *st, sx_ver
 	reading = sx_specimen_has(s, SX_F_PO2) ? s->number[SX_F_PO2] : r.prior_po2;
 	apply_policy(st, reading, v);
 	return SX_OK;
+}
+
+sx_status sx_screen_specimen(const sx_specimen *s, const sx_settings *st, sx_verdict *v)
+{
+	return screen(s, st, v, NULL);
 }
 
 struct sx_screener {
@@ -212,4 +227,10 @@ const char *sx_screener_version(const sx_screener *s)
 sx_status sx_screener_run(const sx_screener *s, sx_specimen *specimen, sx_verdict *verdict)
 {
 	return sx_screen_specimen(specimen, &s->settings, verdict);
+}
+
+sx_status sx_screener_explain(const sx_screener *s, sx_specimen *specimen, sx_explanation *out)
+{
+	memset(out, 0, sizeof *out);
+	return screen(specimen, &s->settings, &out->verdict, out);
 }

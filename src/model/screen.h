@@ -13,6 +13,8 @@
 
 #include "core/record.h"
 #include "model/settings.h"
+#include "model/simulate.h"
+#include "model/timeline.h"
 #include "model/verdict.h"
 
 sx_status sx_screen_specimen(const sx_specimen *specimen, const sx_settings *settings,
@@ -38,5 +40,18 @@ const char *sx_screener_version(const sx_screener *screener);
  * classified into fields). */
 sx_status sx_screener_run(const sx_screener *screener, sx_specimen *specimen,
 			  sx_verdict *verdict);
+
+/* What `syrinx explain` shows: the verdict, the timeline, and the nominal run's
+ * trace (each phase, its temperature, what each mechanism did). */
+typedef struct sx_explanation {
+	sx_verdict verdict;
+	sx_timeline timeline;
+	bool has_trace;
+	sx_sim_trace trace;
+	bool on[SX_MECH_COUNT];
+} sx_explanation;
+
+sx_status sx_screener_explain(const sx_screener *screener, sx_specimen *specimen,
+			      sx_explanation *out);
 
 #endif

@@ -16,7 +16,11 @@
 #include "core/limits.h"
 
 static const char *const agitation_names[SX_AGITATION_COUNT] = {
-	"standing", "hand carry", "pneumatic tube", "sealed pneumatic carrier", "courier",
+	[SX_AGITATION_STANDING] = "standing",
+	[SX_AGITATION_HAND] = "hand carry",
+	[SX_AGITATION_TUBE] = "pneumatic tube",
+	[SX_AGITATION_TUBE_SEALED] = "sealed pneumatic carrier",
+	[SX_AGITATION_MIXING] = "mixing before analysis",
 };
 
 const char *sx_agitation_name(sx_agitation a)
@@ -81,9 +85,7 @@ static sx_agitation transport_agitation(const sx_specimen *s)
 					       s->choice[SX_F_SEALED_CARRIER] == SX_YES
 				       ? SX_AGITATION_TUBE_SEALED
 				       : SX_AGITATION_TUBE;
-	case SX_TRANSPORT_COURIER:
-		return SX_AGITATION_COURIER;
-	default:
+	default: /* hand, courier, other: carried */
 		return SX_AGITATION_HAND;
 	}
 }
@@ -163,8 +165,7 @@ void sx_timeline_build(const sx_specimen *s, const sx_settings *st, sx_timeline 
 		/* No receipt time: the transport's agitation for the ride, then standing. */
 		double ride = agitation == SX_AGITATION_STANDING
 				      ? 0
-				      : fmin(tl->total_min, agitation == SX_AGITATION_HAND ||
-								    agitation == SX_AGITATION_COURIER
+				      : fmin(tl->total_min, agitation == SX_AGITATION_HAND
 							    ? tl->total_min / 2
 							    : st->tube_ride_min);
 		add_phase(tl, agitation == SX_AGITATION_HAND ? "transport" : "tube ride", ride, temp,

@@ -16,19 +16,13 @@
 #include <stddef.h>
 
 #include "core/record.h"
+#include "model/air_exchange.h"
 #include "model/settings.h"
 #include "model/verdict.h"
 
 #define SX_MAX_PHASES 4
 
-typedef enum sx_agitation {
-	SX_AGITATION_STANDING = 0,  /* on a bench or in a rack */
-	SX_AGITATION_HAND,          /* carried by hand, walked over */
-	SX_AGITATION_TUBE,          /* pneumatic tube, carrier not sealed */
-	SX_AGITATION_TUBE_SEALED,   /* pneumatic tube, pressure-sealed carrier */
-	SX_AGITATION_COURIER,       /* by vehicle */
-	SX_AGITATION_COUNT
-} sx_agitation;
+/* How much a phase shakes the specimen: sx_agitation of model/air_exchange.h. */
 
 typedef struct sx_phase_plan {
 	char name[16];              /* "tube ride", "transport", "waiting" */

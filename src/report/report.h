@@ -14,6 +14,7 @@
 #include "core/diag.h"
 #include "core/record.h"
 #include "core/strbuf.h"
+#include "model/screen.h"
 #include "model/verdict.h"
 
 #define SX_CAUTION                                                                          \
@@ -44,5 +45,9 @@ void sx_report_json(sx_strbuf *out, const sx_report_item *item);
 void sx_report_text_header(sx_strbuf *out);
 void sx_report_text(sx_strbuf *out, const sx_report_item *item);
 void sx_report_text_summary(sx_strbuf *out, const sx_tally *tally);
+
+/* `syrinx explain`: one specimen's timeline and what each mechanism did. */
+void sx_report_explain_text(sx_strbuf *out, const sx_specimen *specimen,
+			    const sx_explanation *explanation);
 
 #endif

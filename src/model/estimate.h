@@ -44,6 +44,9 @@ typedef struct sx_estimate_result {
 	double share[SX_MECH_COUNT];       /* at the nominal values, mmHg */
 	double term_share[SX_MAX_EMPIRICAL];
 	size_t samples;
+	double po2_ceiling;                /* the highest pO2 physiology allows at collection */
+	size_t excluded;                   /* draws that needed more than the ceiling */
+	bool implausible;                  /* most draws did: the reading is hard to explain */
 } sx_estimate_result;
 
 /* Run the estimate; trace (may be NULL) receives the nominal run's timeline. */

@@ -16,7 +16,8 @@ static const char *const names[SX_MECH_COUNT] = {
 };
 
 static const int built[SX_MECH_COUNT] = {
-	[SX_MECH_METABOLISM] = 1,
+	[SX_MECH_METABOLISM] = 1,       [SX_MECH_AIR_EXCHANGE] = 1, [SX_MECH_SYRINGE_WALL] = 1,
+	[SX_MECH_HEPARIN_DILUTION] = 1, [SX_MECH_ELECTRODE] = 1,
 };
 
 const char *sx_mechanism_name(sx_mechanism m)

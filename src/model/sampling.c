@@ -65,6 +65,13 @@ double sx_triangular(sx_range r, double u)
 	return b - sqrt((1 - u) * (b - a) * (b - c));
 }
 
+double sx_triangular_scaled(sx_range r, double u)
+{
+	if (r.low > 0 && r.nominal > 0 && r.high >= 4 * r.low)
+		return exp(sx_triangular((sx_range){log(r.low), log(r.nominal), log(r.high)}, u));
+	return sx_triangular(r, u);
+}
+
 double sx_uniform(double low, double high, double u)
 {
 	return low + (high - low) * u;

@@ -40,6 +40,11 @@ double sx_sampler_u(const sx_sampler *s, size_t i, size_t dim);
 /* Triangular distribution on r (low, mode = nominal, high) at probability u. */
 double sx_triangular(sx_range r, double u);
 
+/* For a positive scale parameter whose range spans a factor of 4 or more, the
+ * triangular distribution of its logarithm (so that a wide range does not move the
+ * median far from the nominal value); otherwise sx_triangular. */
+double sx_triangular_scaled(sx_range r, double u);
+
 /* Uniform on [low, high] at probability u. */
 double sx_uniform(double low, double high, double u);
 

@@ -91,21 +91,20 @@ static void check_delay(const sx_specimen *s, const sx_settings *st, const sx_ti
 				      tl->total_min, why, limit);
 }
 
-static void note_unmodelled(const sx_specimen *s, sx_verdict *v)
+/* Which mechanisms apply to this specimen (until the ruleset decides). */
+static void switch_on(const sx_specimen *s, bool *on)
 {
-	if (sx_specimen_has(s, SX_F_BUBBLES) &&
-	    s->choice[SX_F_BUBBLES] != SX_BUBBLES_NONE)
-		sx_verdict_add_warning(v, "bubbles: '%s' reported; air exchange is not modelled "
-					  "in this version and is not in the estimate",
-				       sx_field_choice_name(SX_F_BUBBLES, s->choice[SX_F_BUBBLES]));
-	if (sx_specimen_has(s, SX_F_ANTICOAGULANT) &&
-	    s->choice[SX_F_ANTICOAGULANT] == SX_ANTICOAG_LIQUID_HEPARIN)
-		sx_verdict_add_warning(v, "anticoagulant: liquid heparin; dilution is not "
-					  "modelled in this version and is not in the estimate");
-	if (s->agent_count > 0)
-		sx_verdict_add_warning(v, "agents: %zu volatile agent(s) listed; electrode "
-					  "interference is not modelled in this version",
-				       s->agent_count);
+	int bubbles = sx_specimen_has(s, SX_F_BUBBLES) ? s->choice[SX_F_BUBBLES] : 0;
+	on[SX_MECH_METABOLISM] = true;
+	on[SX_MECH_AIR_EXCHANGE] = bubbles == SX_BUBBLES_SMALL || bubbles == SX_BUBBLES_LARGE ||
+				   bubbles == SX_BUBBLES_FROTH ||
+				   (sx_specimen_has(s, SX_F_BUBBLE_VOLUME_UL) &&
+				    s->number[SX_F_BUBBLE_VOLUME_UL] > 0);
+	on[SX_MECH_SYRINGE_WALL] = sx_specimen_has(s, SX_F_CONTAINER) &&
+				   s->choice[SX_F_CONTAINER] == SX_CONTAINER_PLASTIC;
+	on[SX_MECH_HEPARIN_DILUTION] = sx_specimen_has(s, SX_F_ANTICOAGULANT) &&
+				       s->choice[SX_F_ANTICOAGULANT] == SX_ANTICOAG_LIQUID_HEPARIN;
+	on[SX_MECH_ELECTRODE] = s->agent_count > 0;
 }
 
 static void apply_policy(const sx_settings *st, double reading, sx_verdict *v)
@@ -151,7 +150,6 @@ static sx_status screen(const sx_specimen *s, const sx_settings *st, sx_verdict 
 				      "limit for blood gases",
 				      tl.total_min / 60.0);
 	check_alveolar(s, st, pb, v);
-	note_unmodelled(s, v);
 	check_delay(s, st, &tl, v);
 	if (!tl.known)
 		return SX_OK;
@@ -161,7 +159,7 @@ static sx_status screen(const sx_specimen *s, const sx_settings *st, sx_verdict 
 	in.settings = st;
 	in.timeline = &tl;
 	in.barometric_mmhg = pb;
-	in.on[SX_MECH_METABOLISM] = true;
+	switch_on(s, in.on);
 	if (!sx_specimen_has(s, SX_F_PO2) && !sx_specimen_has(s, SX_F_FIO2))
 		sx_verdict_add_warning(v, "fio2: not given; room air (0.21) assumed for the "
 					  "expected pO2");
@@ -176,6 +174,11 @@ static sx_status screen(const sx_specimen *s, const sx_settings *st, sx_verdict 
 	v->has_bias = true;
 	v->bias_mmhg = r.bias;
 	v->has_before = r.has_before;
+	if (r.implausible)
+		sx_verdict_add_warning(v, "po2: the mechanisms modelled can explain this reading only "
+					  "with a pO2 at collection above the %.0f mmHg the FiO2 "
+					  "allows; the estimate is unreliable",
+				       r.po2_ceiling);
 	v->po2_before_mmhg = r.before;
 	for (int m = 0; m < SX_MECH_COUNT; m++)
 		if (in.on[m] && sx_mechanism_built((sx_mechanism)m))

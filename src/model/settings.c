@@ -5,6 +5,10 @@
  */
 #include "model/settings.h"
 
+#include "model/air_exchange.h"
+#include "model/heparin.h"
+#include "model/syringe_wall.h"
+
 #include <stddef.h>
 #include <string.h>
 
@@ -43,6 +47,42 @@ void sx_settings_defaults(sx_settings *s)
 	s->tube_ride_min = 3.0;
 	s->cooling_room_min = (sx_range){3.0, 8.0, 15.0};
 	s->cooling_ice_min = (sx_range){0.5, 1.5, 3.0};
+	{
+		/* The mechanisms' own defaults and published ranges (docs/model-mechanisms.md). */
+		sx_air_params a = sx_air_exchange_defaults(), alo, ahi;
+		sx_syringe_wall_params w = sx_syringe_wall_defaults(), wlo, whi;
+		sx_heparin_params h = sx_heparin_defaults(), hlo, hhi;
+		sx_electrode_params e = sx_electrode_defaults(), elo, ehi;
+		sx_air_exchange_bounds(&alo, &ahi);
+		sx_syringe_wall_bounds(&wlo, &whi);
+		sx_heparin_bounds(&hlo, &hhi);
+		sx_electrode_bounds(&elo, &ehi);
+#define R3(lo, mid, hi, f) ((sx_range){(lo).f, (mid).f, (hi).f})
+		s->air_tau_standing = R3(alo, a, ahi, tau_standing);
+		s->air_tau_hand = R3(alo, a, ahi, tau_hand);
+		s->air_tau_tube_motion = R3(alo, a, ahi, tau_tube_motion);
+		s->air_tau_tube_pressure = R3(alo, a, ahi, tau_tube_pressure);
+		s->air_tau_mixing = R3(alo, a, ahi, tau_mixing);
+		s->air_tau_floor = R3(alo, a, ahi, tau_floor);
+		s->air_froth_factor = R3(alo, a, ahi, froth_factor);
+		s->air_small_bubble = R3(alo, a, ahi, small_fraction);
+		s->air_large_bubble = R3(alo, a, ahi, large_fraction);
+		s->air_froth_bubble = R3(alo, a, ahi, froth_fraction);
+		s->wall_capacity_room = R3(wlo, w, whi, capacity_room);
+		s->wall_capacity_iced = R3(wlo, w, whi, capacity_iced);
+		s->wall_rate_room = R3(wlo, w, whi, rate_room);
+		s->wall_rate_iced = R3(wlo, w, whi, rate_iced);
+		s->heparin_dead_space_ml = R3(hlo, h, hhi, dead_space_ml);
+		s->heparin_solution_humidity = R3(hlo, h, hhi, solution_rh);
+		s->heparin_air_pco2 = R3(hlo, h, hhi, air_pco2);
+		for (int k = 0; k < SX_AGENT_COUNT; k++)
+			s->electrode_sensitivity[k] = R3(elo, e, ehi, sensitivity[k]);
+#undef R3
+	}
+	/* A typical arterial sample of 1-3 mL (common practice). */
+	s->default_fill_ml = (sx_range){0.8, 1.5, 3.0};
+	/* Maintenance concentrations of volatile agents are around 1 % (from memory). */
+	s->default_agent_percent = 1.0;
 	s->samples = 64;
 	/* Cerveri et al. 1995: PaO2 predicted with SEE 7.5 mmHg [R]. */
 	s->prior_sd_mmhg = 7.5;
@@ -114,6 +154,55 @@ static const sx_param_info params[] = {
 	      "time constant of a syringe cooling in room air"),
 	RANGE("timeline.cooling_ice", SX_Q_DURATION, "min", cooling_ice_min, 0.1, 30,
 	      "time constant of a syringe cooling in ice water"),
+	RANGE("air.tau_standing", SX_Q_DURATION, "min", air_tau_standing, 0.1, 10000,
+	      "air-blood exchange time constant at rest"),
+	RANGE("air.tau_hand", SX_Q_DURATION, "min", air_tau_hand, 0.1, 10000,
+	      "... when carried by hand or courier"),
+	RANGE("air.tau_tube_motion", SX_Q_DURATION, "min", air_tau_tube_motion, 0.1, 10000,
+	      "... from the motion of a tube ride"),
+	RANGE("air.tau_tube_pressure", SX_Q_DURATION, "min", air_tau_tube_pressure, 0.1, 10000,
+	      "... from the pressure swings of a tube ride (an unsealed carrier)"),
+	RANGE("air.tau_mixing", SX_Q_DURATION, "min", air_tau_mixing, 0.1, 10000,
+	      "... when rolled or inverted before analysis"),
+	RANGE("air.tau_floor", SX_Q_DURATION, "min", air_tau_floor, 0.1, 100,
+	      "no agitation exchanges faster than this"),
+	RANGE("air.froth_factor", SX_Q_NONE, "1", air_froth_factor, 1, 1000,
+	      "froth divides the time constant by this"),
+	RANGE("air.small_bubble", SX_Q_FRACTION, "1", air_small_bubble, 0, 1,
+	      "air volume of a small bubble, fraction of the blood"),
+	RANGE("air.large_bubble", SX_Q_FRACTION, "1", air_large_bubble, 0, 1,
+	      "air volume of a large bubble, fraction of the blood"),
+	RANGE("air.froth_bubble", SX_Q_FRACTION, "1", air_froth_bubble, 0, 1,
+	      "air volume in froth, fraction of the blood"),
+	RANGE("wall.capacity_room", SX_Q_NONE, "mL/dL/mmHg", wall_capacity_room, 0, 1,
+	      "O2 a plastic wall holds per mmHg at room temperature"),
+	RANGE("wall.capacity_iced", SX_Q_NONE, "mL/dL/mmHg", wall_capacity_iced, 0, 1,
+	      "... on ice"),
+	RANGE("wall.rate_room", SX_Q_NONE, "1/min", wall_rate_room, 0, 100,
+	      "exchange rate between wall and blood at room temperature"),
+	RANGE("wall.rate_iced", SX_Q_NONE, "1/min", wall_rate_iced, 0, 100, "... on ice"),
+	RANGE("heparin.dead_space", SX_Q_VOLUME_ML, "mL", heparin_dead_space_ml, 0, 5,
+	      "liquid heparin left in a syringe after expelling it"),
+	RANGE("heparin.solution_humidity", SX_Q_FRACTION, "1", heparin_solution_humidity, 0, 1,
+	      "humidity of the air the heparin solution equilibrated with"),
+	RANGE("heparin.air_pco2", SX_Q_PRESSURE, "mmHg", heparin_air_pco2, 0, 5,
+	      "pCO2 of the air the solution equilibrated with"),
+	RANGE("electrode.halothane", SX_Q_NONE, "1/%", electrode_sensitivity[SX_AGENT_HALOTHANE],
+	      0, 1, "extra reading per volume % halothane, fraction of the reading"),
+	RANGE("electrode.enflurane", SX_Q_NONE, "1/%", electrode_sensitivity[SX_AGENT_ENFLURANE],
+	      0, 1, "... enflurane"),
+	RANGE("electrode.isoflurane", SX_Q_NONE, "1/%",
+	      electrode_sensitivity[SX_AGENT_ISOFLURANE], 0, 1, "... isoflurane"),
+	RANGE("electrode.sevoflurane", SX_Q_NONE, "1/%",
+	      electrode_sensitivity[SX_AGENT_SEVOFLURANE], 0, 1, "... sevoflurane"),
+	RANGE("electrode.desflurane", SX_Q_NONE, "1/%",
+	      electrode_sensitivity[SX_AGENT_DESFLURANE], 0, 1, "... desflurane"),
+	RANGE("electrode.nitrous_oxide", SX_Q_NONE, "1/%",
+	      electrode_sensitivity[SX_AGENT_NITROUS_OXIDE], 0, 1, "... nitrous oxide"),
+	RANGE("specimen.default_fill", SX_Q_VOLUME_ML, "mL", default_fill_ml, 0.05, 100,
+	      "blood volume assumed when not given"),
+	SCALAR("specimen.default_agent_percent", SX_Q_PERCENT, "%", default_agent_percent, 0, 100,
+	       "concentration assumed for an agent given without one"),
 	SCALAR("estimate.samples", SX_Q_NONE, "1", samples, 1, 256,
 	       "Latin hypercube samples for the interval"),
 	SCALAR("estimate.prior_spread", SX_Q_PRESSURE, "mmHg", prior_sd_mmhg, 0.1, 100,

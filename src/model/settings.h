@@ -15,6 +15,7 @@
 
 #include "core/status.h"
 #include "core/units.h"
+#include "model/electrode.h"
 
 typedef struct sx_range {
 	double low, nominal, high;
@@ -49,6 +50,24 @@ typedef struct sx_settings {
 	double tube_ride_min;          /* how long a pneumatic-tube ride shakes the specimen */
 	sx_range cooling_room_min;     /* time constant of cooling in room air */
 	sx_range cooling_ice_min;      /* time constant of cooling in ice water */
+
+	/* air exchange (model/air_exchange.h; docs/model-mechanisms.md) */
+	sx_range air_tau_standing, air_tau_hand, air_tau_tube_motion, air_tau_tube_pressure,
+		air_tau_mixing, air_tau_floor, air_froth_factor;
+	sx_range air_small_bubble, air_large_bubble, air_froth_bubble; /* fraction of blood */
+
+	/* syringe wall */
+	sx_range wall_capacity_room, wall_capacity_iced, wall_rate_room, wall_rate_iced;
+
+	/* liquid heparin */
+	sx_range heparin_dead_space_ml, heparin_solution_humidity, heparin_air_pco2;
+
+	/* electrode interference: fraction of the reading per volume % of each agent */
+	sx_range electrode_sensitivity[SX_AGENT_COUNT];
+
+	/* the specimen when the record does not say */
+	sx_range default_fill_ml;
+	double default_agent_percent;
 
 	/* estimate */
 	double samples;                /* Latin hypercube samples for the interval */

@@ -61,6 +61,12 @@ static double between(double room, double iced, double temp_c)
 	if (!(room > 0.0) || !(iced > 0.0) || !isfinite(room) || !isfinite(iced) ||
 	    !isfinite(temp_c))
 		return NAN;
+	/* Measured only between ice and room temperature: held at the end values outside
+	 * (a warm syringe is not extrapolated into an ever faster wall). */
+	if (temp_c > SX_WALL_ROOM_C)
+		temp_c = SX_WALL_ROOM_C;
+	if (temp_c < SX_WALL_ICED_C)
+		temp_c = SX_WALL_ICED_C;
 	return room *
 	       pow(iced / room, (SX_WALL_ROOM_C - temp_c) / (SX_WALL_ROOM_C - SX_WALL_ICED_C));
 }

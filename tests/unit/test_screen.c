@@ -208,6 +208,111 @@ START_TEST(same_input_same_verdict)
 }
 END_TEST
 
+/* A specimen from pairs plus the common ones: collected 08:00Z, analysed at `minutes`. */
+static sx_verdict screen_with(double po2, int minutes, const char *const *extra)
+{
+	char p[32], a[48];
+	const char *pairs[24] = {"specimen_id=M", "collected_at=2026-03-14T08:00:00Z", a, p,
+				 "hb=14", "ph=7.40", "pco2=40", "fio2=1.0"};
+	size_t n = 8;
+	sx_specimen s;
+	sx_settings set;
+	sx_verdict v;
+	snprintf(p, sizeof p, "po2=%g", po2);
+	snprintf(a, sizeof a, "analysed_at=2026-03-14T%02d:%02d:00Z", 8 + minutes / 60,
+		 minutes % 60);
+	for (; *extra && n < 23; extra++)
+		pairs[n++] = *extra;
+	pairs[n] = NULL;
+	build(&s, pairs);
+	sx_settings_defaults(&set);
+	ck_assert_int_eq(sx_screen_specimen(&s, &set, &v), SX_OK);
+	sx_specimen_clear(&s);
+	return v;
+}
+
+static double share_of(const sx_verdict *v, const char *name)
+{
+	for (size_t i = 0; i < v->mechanism_count; i++)
+		if (strcmp(v->mechanisms[i].name, name) == 0)
+			return v->mechanisms[i].bias_mmhg;
+	return NAN;
+}
+
+START_TEST(a_bubble_pulls_toward_room_air_from_either_side)
+{
+	/* Air in the syringe equilibrates the sample toward room-air pO2 (about 150 mmHg):
+	 * a hypoxaemic sample reads high, a hyperoxic one low (MODEL-SOURCES, air bubbles). */
+	static const char *const bubble[] = {"bubbles=large", "transport=hand",
+					     "container=glass-syringe", NULL};
+	sx_verdict low = screen_with(50, 20, bubble);
+	sx_verdict high = screen_with(400, 20, bubble);
+	ck_assert(share_of(&low, "air-exchange") > 0);
+	ck_assert(share_of(&high, "air-exchange") < 0);
+}
+END_TEST
+
+START_TEST(more_bubble_larger_effect)
+{
+	static const char *const small[] = {"bubble_volume_ul=10", "container=glass-syringe", NULL};
+	static const char *const medium[] = {"bubble_volume_ul=40", "container=glass-syringe", NULL};
+	static const char *const large[] = {"bubble_volume_ul=150", "container=glass-syringe", NULL};
+	double a = screen_with(55, 30, small).bias_mmhg.estimate;
+	double b = screen_with(55, 30, medium).bias_mmhg.estimate;
+	double c = screen_with(55, 30, large).bias_mmhg.estimate;
+	ck_assert(a < b && b < c);
+}
+END_TEST
+
+START_TEST(iced_plastic_raises_a_low_normal_sample)
+{
+	/* Cold plastic gives O2 up to a sample below room-air pO2 (Mahoney et al., Clin Chem
+	 * 1991: iced plastic, blood at 10 % O2, +0.8 mmHg in 30 min; mechanism Schmidt &
+	 * Muller-Plathe 1992). */
+	static const char *const iced[] = {"storage=iced", "container=plastic-syringe", NULL};
+	sx_verdict v = screen_with(70, 30, iced);
+	ck_assert(share_of(&v, "syringe-wall") > 0);
+}
+END_TEST
+
+START_TEST(halothane_reads_high)
+{
+	/* Halothane is reduced at the O2 cathode and reads as extra pO2 (McHugh et al.,
+	 * Anesthesiology 1979). */
+	static const char *const none[] = {"container=glass-syringe", NULL};
+	sx_specimen s;
+	sx_settings set;
+	sx_verdict with, without;
+	const char *pairs[] = {"specimen_id=H", "collected_at=2026-03-14T08:00:00Z",
+			       "analysed_at=2026-03-14T08:05:00Z", "po2=200", "hb=14",
+			       "container=glass-syringe", NULL};
+	build(&s, pairs);
+	ck_assert_int_eq(sx_specimen_add_agent(&s, "halothane", 9, 1.5), SX_OK);
+	sx_settings_defaults(&set);
+	ck_assert_int_eq(sx_screen_specimen(&s, &set, &with), SX_OK);
+	sx_specimen_clear(&s);
+	without = screen_with(200, 5, none);
+	ck_assert(share_of(&with, "electrode-interference") > 0);
+	ck_assert(with.bias_mmhg.estimate > without.bias_mmhg.estimate);
+}
+END_TEST
+
+START_TEST(shares_add_up_to_the_estimate)
+{
+	static const char *const many[] = {"bubbles=small", "container=plastic-syringe",
+					   "anticoagulant=liquid-heparin", "heparin_volume_ml=0.2",
+					   "fill_volume_ml=1.5", "transport=pneumatic-tube", NULL};
+	sx_verdict v = screen_with(120, 25, many);
+	double sum = 0;
+	for (size_t i = 0; i < v.mechanism_count; i++)
+		sum += v.mechanisms[i].bias_mmhg;
+	ck_assert_uint_ge(v.mechanism_count, 4);
+	/* the draw nearest the median: within the spacing of neighbouring draws */
+	ck_assert_double_eq_tol(sum, v.bias_mmhg.estimate,
+				0.1 * (v.bias_mmhg.high - v.bias_mmhg.low) + 0.2);
+}
+END_TEST
+
 int main(void)
 {
 	Suite *s = suite_create("screen");
@@ -225,6 +330,12 @@ int main(void)
 	tcase_add_test(tc, po2_above_the_alveolar_gas_equation_is_rejected);
 	tcase_add_test(tc, without_a_reading_the_prior_is_used);
 	tcase_add_test(tc, same_input_same_verdict);
+	tcase_add_test(tc, a_bubble_pulls_toward_room_air_from_either_side);
+	tcase_add_test(tc, more_bubble_larger_effect);
+	tcase_add_test(tc, iced_plastic_raises_a_low_normal_sample);
+	tcase_add_test(tc, halothane_reads_high);
+	tcase_add_test(tc, shares_add_up_to_the_estimate);
+	tcase_set_timeout(tc, 60);
 	suite_add_tcase(s, tc);
 	sr = srunner_create(s);
 	srunner_run_all(sr, CK_NORMAL);

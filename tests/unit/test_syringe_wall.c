@@ -248,7 +248,11 @@ START_TEST(test_temperature_law)
 	ck_assert_double_eq_tol(sx_syringe_wall_capacity(&p, SX_WALL_PLASTIC, 12.0), 2e-3, 1e-15);
 	ck_assert_double_eq_tol(sx_syringe_wall_rate(&p, SX_WALL_PLASTIC, 12.0), sqrt(0.004),
 	                        1e-15);
-	ck_assert_double_eq_tol(sx_syringe_wall_rate(&p, SX_WALL_PLASTIC, 42.0), 2.0, 1e-12);
+	/* outside the measured 2-22 C the law is held at its end values, not extrapolated: a
+	 * syringe still warm from the patient is not given an ever faster wall */
+	ck_assert_double_eq_tol(sx_syringe_wall_rate(&p, SX_WALL_PLASTIC, 42.0), 0.2, 1e-15);
+	ck_assert_double_eq_tol(sx_syringe_wall_capacity(&p, SX_WALL_PLASTIC, 37.0), 1e-3, 1e-15);
+	ck_assert_double_eq_tol(sx_syringe_wall_rate(&p, SX_WALL_PLASTIC, -4.0), 0.02, 1e-15);
 	/* glass holds none (Mahoney et al. 1991 [R]: iced glass stable) */
 	ck_assert_double_eq_tol(sx_syringe_wall_capacity(&p, SX_WALL_GLASS, 2.0), 0.0, 1e-300);
 	ck_assert_double_eq_tol(sx_syringe_wall_rate(&p, SX_WALL_GLASS, 2.0), 0.0, 1e-300);

@@ -36,6 +36,47 @@ static void phase_shares(const sx_phase_trace *p, const bool *on, double *out)
 		out[m] = on[m] && total != 0 ? dp * p->dcontent[m] / total : 0.0;
 }
 
+/* Mechanisms that act along the phases (the others act at sampling or analysis). */
+static int at_phases(int m)
+{
+	return m != SX_MECH_HEPARIN_DILUTION && m != SX_MECH_ELECTRODE;
+}
+
+static int column_width(int m)
+{
+	int w = (int)strlen(sx_mechanism_name((sx_mechanism)m));
+	return w < 10 ? 10 : w;
+}
+
+static void row_start(sx_strbuf *out, const char *name, double minutes, const sx_phase_trace *p,
+		      double po2_from, double po2_to)
+{
+	char temp[32] = "", po2[32], mins[16] = "";
+	if (p)
+		snprintf(temp, sizeof temp, "%.1f -> %.1f", p->temp_start_c, p->temp_end_c);
+	if (minutes > 0 || p)
+		snprintf(mins, sizeof mins, "%.1f", minutes);
+	snprintf(po2, sizeof po2, "%.1f -> %.1f", po2_from, po2_to);
+	sx_strbuf_printf(out, "  %-10s %8s  %-16s %-18s", name, mins, temp, po2);
+}
+
+/* One value in the column of `only` (>= 0), the phase mechanisms' shares (-1), or every
+ * column from values (-2). */
+static void row_values(sx_strbuf *out, const int *shown, int only, double value,
+		       const double *values)
+{
+	for (int m = 0; m < SX_MECH_COUNT; m++) {
+		if (!shown[m])
+			continue;
+		if ((only >= 0 && m == only) || (only == -2) || (only == -1 && at_phases(m)))
+			sx_strbuf_printf(out, " %+*.1f", column_width(m),
+					 clean(only >= 0 ? value : values[m]));
+		else
+			sx_strbuf_printf(out, " %*s", column_width(m), "");
+	}
+	sx_strbuf_putc(out, '\n');
+}
+
 void sx_report_explain_text(sx_strbuf *out, const sx_specimen *s, const sx_explanation *ex)
 {
 	const sx_verdict *v = &ex->verdict;
@@ -86,42 +127,42 @@ void sx_report_explain_text(sx_strbuf *out, const sx_specimen *s, const sx_expla
 	if (ex->has_trace) {
 		const sx_sim_trace *t = &ex->trace;
 		double totals[SX_MECH_COUNT] = {0}, minutes = 0;
-		sx_strbuf_puts(out, "\nTimeline at the nominal values (pO2 as the analyser would read "
-				    "it, at 37 C):\n");
+		sx_strbuf_puts(out, "\nTimeline of the draw at the median (pO2 as the analyser would "
+				    "read it, at 37 C):\n");
 		sx_strbuf_printf(out, "  %-10s %8s  %-16s %-18s", "phase", "minutes",
 				 "temperature C", "pO2 mmHg");
 		for (int m = 0; m < SX_MECH_COUNT; m++)
 			if (ex->on[m] && sx_mechanism_built((sx_mechanism)m)) {
 				shown[m] = 1;
-				sx_strbuf_printf(out, " %14s", sx_mechanism_name((sx_mechanism)m));
+				sx_strbuf_printf(out, " %*s", column_width(m),
+						 sx_mechanism_name((sx_mechanism)m));
 			}
 		sx_strbuf_putc(out, '\n');
+		if (shown[SX_MECH_HEPARIN_DILUTION]) {
+			double dp = t->po2_after_mixing - t->po2_collection;
+			row_start(out, "sampling", 0, NULL, t->po2_collection, t->po2_after_mixing);
+			totals[SX_MECH_HEPARIN_DILUTION] += dp;
+			row_values(out, shown, SX_MECH_HEPARIN_DILUTION, dp, NULL);
+		}
 		for (size_t i = 0; i < t->phase_count; i++) {
 			const sx_phase_trace *p = &t->phases[i];
 			double sh[SX_MECH_COUNT];
-			char temp[32], po2[32];
 			phase_shares(p, ex->on, sh);
-			snprintf(temp, sizeof temp, "%.1f -> %.1f", p->temp_start_c, p->temp_end_c);
-			snprintf(po2, sizeof po2, "%.1f -> %.1f", p->po2_start, p->po2_end);
-			sx_strbuf_printf(out, "  %-10s %8.1f  %-16s %-18s", p->name, p->minutes, temp,
-					 po2);
+			row_start(out, p->name, p->minutes, p, p->po2_start, p->po2_end);
 			for (int m = 0; m < SX_MECH_COUNT; m++)
-				if (shown[m]) {
-					sx_strbuf_printf(out, " %+14.1f", clean(sh[m]));
+				if (at_phases(m))
 					totals[m] += sh[m];
-				}
-			sx_strbuf_putc(out, '\n');
+			row_values(out, shown, -1, 0, sh);
 			minutes += p->minutes;
 		}
-		{
-			char po2[32];
-			snprintf(po2, sizeof po2, "%.1f -> %.1f", t->po2_collection, t->po2_reading);
-			sx_strbuf_printf(out, "  %-10s %8.1f  %-16s %-18s", "total", minutes, "", po2);
-			for (int m = 0; m < SX_MECH_COUNT; m++)
-				if (shown[m])
-					sx_strbuf_printf(out, " %+14.1f", clean(totals[m]));
-			sx_strbuf_putc(out, '\n');
+		if (shown[SX_MECH_ELECTRODE]) {
+			double dp = t->po2_reading - t->po2_true_reading;
+			row_start(out, "analysis", 0, NULL, t->po2_true_reading, t->po2_reading);
+			totals[SX_MECH_ELECTRODE] += dp;
+			row_values(out, shown, SX_MECH_ELECTRODE, dp, NULL);
 		}
+		row_start(out, "total", minutes, NULL, t->po2_collection, t->po2_reading);
+		row_values(out, shown, -2, 0, totals);
 		if (ex->timeline.count)
 			sx_strbuf_puts(out, "  (agitation: ");
 		for (size_t i = 0; i < ex->timeline.count; i++)

@@ -144,9 +144,12 @@ sx_status sx_simulate(const sx_sim_input *in, const sx_draw *d, double po2_0,
 	} else {
 		content = sx_o2_content(po2_0, &mix);
 	}
-	st = sx_o2_po2_from_content(content, &mix, &po2_mixed);
-	if (st != SX_OK)
-		return st;
+	po2_mixed = po2_0;
+	if (f > 0) {
+		st = sx_o2_po2_from_content(content, &mix, &po2_mixed);
+		if (st != SX_OK)
+			return st;
+	}
 	out->dpo2[SX_MECH_HEPARIN_DILUTION] = po2_mixed - po2_0;
 	temp = tl->start_temp_c;
 	if (air_on) {
@@ -182,14 +185,18 @@ sx_status sx_simulate(const sx_sim_input *in, const sx_draw *d, double po2_0,
 			size_t n = step_bounds(minutes, tau, bounds, sizeof bounds / sizeof bounds[0]);
 			double air_tau = air_on ? sx_air_exchange_tau(&d->air, p->agitation, in->froth)
 						: INFINITY;
+			double ln_q10 = log(d->metabolism.q10);
 			for (size_t k = 1; k < n; k++) {
 				double a = bounds[k - 1], b = bounds[k], dt = b - a;
 				sx_blood_state bt = sx_blood_at(&mix, temp_at(p, start_temp, tau,
 									      (a + b) / 2));
 				if (in->on[SX_MECH_METABOLISM]) {
-					double used = fmin(content, metabolism_between(
-									    in, d, p, start_temp,
-									    tau, a, b));
+					/* a step is short: one 4-point quadrature covers it */
+					double used = fmin(
+						content,
+						sx_metabolism_rate_37(&d->metabolism, in->wbc,
+								      in->platelets) *
+							gl4(p, start_temp, tau, ln_q10, a, b));
 					content -= used;
 					moved[SX_MECH_METABOLISM] -= used;
 				}
@@ -317,7 +324,10 @@ sx_status sx_simulate_invert(sx_sim_input *in, const sx_draw *d, double reading,
 		return st;
 	f0 = out->reading - reading;
 	x1 = fmax(0.0, x0 - f0 / (in->slope_hint > 0.05 ? in->slope_hint : 1.0));
-	if (fabs(x1 - x0) < SX_INVERT_TOLERANCE) {
+	/* With a slope known from an earlier draw (to a few per cent), a correction under
+	 * SX_INVERT_TRUST mmHg lands within a few hundredths of the root: take it. */
+	if (fabs(x1 - x0) < SX_INVERT_TOLERANCE ||
+	    (in->slope_hint > 0.05 && fabs(x1 - x0) < SX_INVERT_TRUST)) {
 		*po2_0 = x1;
 		in->offset_hint = x1 - closed;
 		return SX_OK;

@@ -48,6 +48,8 @@ typedef struct sx_sim_input {
 
 /* The inverse is solved to this many mmHg: far below the 0.1 mmHg reported. */
 #define SX_INVERT_TOLERANCE 0.01
+/* ... and a correction predicted from a known slope is trusted below this many mmHg. */
+#define SX_INVERT_TRUST 0.5
 
 /* One draw of the uncertain parameters. */
 typedef struct sx_draw {

@@ -1,0 +1,8 @@
+# SPDX-License-Identifier: MIT
+# Automake fragment of src/net (MLLP framing and the service), included by Makefile.am.
+libsyrinx_a_SOURCES += src/net/mllp.c src/net/mllp.h
+
+UNIT_TESTS += tests/unit/test_mllp
+tests_unit_test_mllp_SOURCES = tests/unit/test_mllp.c
+tests_unit_test_mllp_CFLAGS = $(TEST_CFLAGS)
+tests_unit_test_mllp_LDADD = $(TEST_LIBS)

@@ -29,6 +29,7 @@ void sx_cli_print_diags(FILE *out, const sx_diag_list *list);
 char *sx_cli_find_data(const char *relative);
 
 int sx_cmd_check(int argc, char **argv);
+int sx_cmd_audit(int argc, char **argv);
 int sx_cmd_rules(int argc, char **argv);
 int sx_cmd_explain(int argc, char **argv);
 

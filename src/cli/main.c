@@ -22,6 +22,8 @@ static const char usage[] =
 	"reading is likely off, why, and whether to accept, comment or reject.\n"
 	"\n"
 	"commands:\n"
+	"  audit     report on weeks of verdicts (decision log or feed files) as\n"
+	"            HTML with charts, CSV or JSON\n"
 	"  check     screen specimens from XML feed files or standard input\n"
 	"  explain   show one specimen's timeline and what each mechanism did\n"
 	"\n"
@@ -112,6 +114,8 @@ int main(int argc, char **argv)
 		printf("syrinx %s\n", PACKAGE_VERSION);
 		return SX_EXIT_OK;
 	}
+	if (strcmp(argv[1], "audit") == 0)
+		return sx_cmd_audit(argc - 1, argv + 1);
 	if (strcmp(argv[1], "check") == 0)
 		return sx_cmd_check(argc - 1, argv + 1);
 	if (strcmp(argv[1], "explain") == 0)

@@ -11,6 +11,7 @@
 #include <string.h>
 
 #include "core/alloc.h"
+#include "feed/hl7.h"
 #include "feed/xmlfeed.h"
 
 #define PEEK_SIZE 512
@@ -23,6 +24,7 @@ struct sx_feed {
 	size_t peek_len, peek_pos;
 	bool read_error;
 	sx_xml_feed *xml;
+	sx_hl7_feed *hl7;
 };
 
 static int feed_read(void *context, char *buf, int len)
@@ -111,11 +113,11 @@ sx_status sx_feed_open(FILE *fp, const char *name, const sx_feed_options *option
 	case SX_FEED_XML:
 		st = sx_xml_feed_open(feed_read, f, name, options->default_offset_min, &f->xml);
 		break;
-	case SX_FEED_HL7:
-		sx_diag_add(diags, SX_ERROR, SX_EINVAL, &where,
-			    "HL7 v2 input is not supported by this version; use the XML feed");
-		st = SX_EINVAL;
+	case SX_FEED_HL7: {
+		sx_hl7_options ho = {options->default_offset_min, name, NULL, NULL};
+		st = sx_hl7_feed_open(feed_read, f, &ho, &f->hl7);
 		break;
+	}
 	default:
 		st = SX_EINVAL;
 		break;
@@ -131,7 +133,8 @@ sx_status sx_feed_open(FILE *fp, const char *name, const sx_feed_options *option
 sx_status sx_feed_next(sx_feed *f, sx_specimen *s, sx_feed_item *item, bool *got,
 		       sx_diag_list *diags)
 {
-	sx_status st = sx_xml_feed_next(f->xml, s, item, got, diags);
+	sx_status st = f->format == SX_FEED_HL7 ? sx_hl7_feed_next(f->hl7, s, item, got, diags)
+						: sx_xml_feed_next(f->xml, s, item, got, diags);
 	if (f->read_error) {
 		sx_where where = {f->name, 0, 0, NULL, NULL};
 		sx_diag_add(diags, SX_ERROR, SX_EIO, &where, "read error; the input stops here");
@@ -152,5 +155,6 @@ void sx_feed_close(sx_feed *f)
 	if (!f)
 		return;
 	sx_xml_feed_close(f->xml);
+	sx_hl7_feed_close(f->hl7);
 	sx_free(f);
 }

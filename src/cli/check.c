@@ -11,6 +11,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <time.h>
 
 #include "cli/cli.h"
 #include "core/alloc.h"
@@ -19,6 +20,7 @@
 #include "feed/xmlfeed.h"
 #include "model/screen.h"
 #include "model/settings.h"
+#include "report/hl7out.h"
 #include "report/report.h"
 
 static const char check_usage[] =
@@ -30,7 +32,9 @@ static const char check_usage[] =
 	"\n"
 	"options:\n"
 	"  --input auto|xml|hl7   feed format; auto (default) looks at the first bytes\n"
-	"  --format text|json     text for people (default) or JSON Lines\n"
+	"  --format text|json|hl7 text for people (default), JSON Lines, or one HL7 v2\n"
+	"                         result message (ORU^R01) per specimen, see docs/hl7.md;\n"
+	"                         MSH-7 is now, or SOURCE_DATE_EPOCH when set\n"
 	"  --validate             check XML input against the feed schema first and\n"
 	"                         report every schema error with its line\n"
 	"  --schema FILE          the schema for --validate (default: the shipped\n"
@@ -54,9 +58,11 @@ static const char check_usage[] =
 	"not a corrected result for clinical use; local policy and the laboratory\n"
 	"director decide.\n";
 
+enum { FORMAT_TEXT, FORMAT_JSON, FORMAT_HL7 };
+
 typedef struct check_options {
 	sx_feed_format input;
-	int json;
+	int format;
 	int validate;
 	const char *schema;
 	int utc_offset_min;
@@ -71,6 +77,7 @@ typedef struct check_run {
 	int worst;               /* worst disposition seen, -1 none */
 	int input_errors;
 	int internal_error;
+	sx_time now;             /* for the HL7 result messages */
 } check_run;
 
 static int file_read(void *context, char *buf, int len)
@@ -154,10 +161,15 @@ static void screen_one(check_run *run, sx_specimen *s, const sx_feed_item *item,
 		run->input_errors = 1;
 	}
 	sx_tally_add(&run->tally, &ri);
-	if (run->opt->json)
+	if (run->opt->format == FORMAT_JSON) {
 		sx_report_json(&run->out, &ri);
-	else
+	} else if (run->opt->format == FORMAT_HL7) {
+		sx_hl7_result_options ho = {0};
+		ho.now = &run->now;
+		sx_report_hl7(&run->out, &ri, &ho);
+	} else {
 		sx_report_text(&run->out, &ri);
+	}
 }
 
 static void check_input(check_run *run, FILE *fp, const char *name)
@@ -217,7 +229,7 @@ int sx_cmd_check(int argc, char **argv)
 		{"fail-on", required_argument, NULL, 'F'}, {"help", no_argument, NULL, 'h'},
 		{NULL, 0, NULL, 0},
 	};
-	check_options opt = {SX_FEED_AUTO, 0, 0, NULL, 0, -1};
+	check_options opt = {SX_FEED_AUTO, FORMAT_TEXT, 0, NULL, 0, -1};
 	check_run run;
 	int c, status;
 
@@ -240,11 +252,13 @@ int sx_cmd_check(int argc, char **argv)
 			break;
 		case 'f':
 			if (strcmp(optarg, "text") == 0)
-				opt.json = 0;
+				opt.format = FORMAT_TEXT;
 			else if (strcmp(optarg, "json") == 0)
-				opt.json = 1;
+				opt.format = FORMAT_JSON;
+			else if (strcmp(optarg, "hl7") == 0)
+				opt.format = FORMAT_HL7;
 			else {
-				fprintf(stderr, "syrinx check: --format takes text or json, not "
+				fprintf(stderr, "syrinx check: --format takes text, json or hl7, not "
 						"'%s'\n",
 					optarg);
 				return SX_EXIT_USAGE;
@@ -288,7 +302,16 @@ int sx_cmd_check(int argc, char **argv)
 	sx_settings_defaults(&run.settings);
 	run.settings.utc_offset_min = opt.utc_offset_min;
 	sx_strbuf_init(&run.out, 0);
-	if (!opt.json) {
+	{
+		/* reproducible output when asked (the reproducible-builds convention) */
+		const char *epoch = getenv("SOURCE_DATE_EPOCH");
+		char *end = NULL;
+		long long secs = epoch ? strtoll(epoch, &end, 10) : (long long)time(NULL);
+		if (epoch && (!end || *end))
+			secs = (long long)time(NULL);
+		run.now = (sx_time){secs * 1000, 0, SX_PREC_SECOND, true};
+	}
+	if (opt.format == FORMAT_TEXT) {
 		sx_report_text_header(&run.out);
 		flush_out(&run);
 	}
@@ -320,7 +343,7 @@ int sx_cmd_check(int argc, char **argv)
 		check_input(&run, fp, argv[i]);
 		fclose(fp);
 	}
-	if (!opt.json) {
+	if (opt.format == FORMAT_TEXT) {
 		sx_report_text_summary(&run.out, &run.tally);
 		flush_out(&run);
 	}

@@ -24,7 +24,7 @@ static const char usage[] =
 	"commands:\n"
 	"  audit     report on weeks of verdicts (decision log or feed files) as\n"
 	"            HTML with charts, CSV or JSON\n"
-	"  check     screen specimens from XML feed files or standard input\n"
+	"  check     screen specimens from XML or HL7 v2 feed files, or standard input\n"
 	"  explain   show one specimen's timeline and what each mechanism did\n"
 	"\n"
 	"  syrinx <command> --help   shows the command's options\n"

@@ -32,5 +32,6 @@ int sx_cmd_check(int argc, char **argv);
 int sx_cmd_audit(int argc, char **argv);
 int sx_cmd_rules(int argc, char **argv);
 int sx_cmd_explain(int argc, char **argv);
+int sx_cmd_serve(int argc, char **argv);
 
 #endif

@@ -26,6 +26,7 @@ static const char usage[] =
 	"            HTML with charts, CSV or JSON\n"
 	"  check     screen specimens from XML or HL7 v2 feed files, or standard input\n"
 	"  explain   show one specimen's timeline and what each mechanism did\n"
+	"  serve     screen a live HL7 feed over MLLP into the decision log\n"
 	"\n"
 	"  syrinx <command> --help   shows the command's options\n"
 	"  syrinx --version          shows the version\n"
@@ -120,6 +121,8 @@ int main(int argc, char **argv)
 		return sx_cmd_check(argc - 1, argv + 1);
 	if (strcmp(argv[1], "explain") == 0)
 		return sx_cmd_explain(argc - 1, argv + 1);
+	if (strcmp(argv[1], "serve") == 0)
+		return sx_cmd_serve(argc - 1, argv + 1);
 	fprintf(stderr, "syrinx: '%s' is not a command\n\n%s", argv[1], usage);
 	return SX_EXIT_USAGE;
 }

@@ -61,13 +61,20 @@ typedef struct sx_rule_outcome {
 	size_t term_count;
 	int disposition;                          /* -1: no rule set one */
 	char disposition_rule[SX_MAX_RULE_REF];
+	/* Added with the rule language (issue 4): */
+	bool final;                               /* a final disposition ended the rules */
+	size_t reasons_dropped;                   /* past SX_MAX_REASONS, counted */
+	size_t terms_dropped;                     /* past SX_MAX_TERMS, counted */
 } sx_rule_outcome;
 
 /*
  * Load every *.rules file of dir. On any error: diags holds all of them,
  * *out is NULL and the status is SX_ESYNTAX (or SX_EIO, SX_ENOMEM). Warnings
- * (unreachable rule, unused setting, reason code defined twice, a unit that
- * does not fit the field) go to diags too and do not stop loading.
+ * (unreachable rule, unused limit or setting, reason code defined twice, a
+ * number written without its unit, a mechanism this build does not model)
+ * go to diags too and do not stop loading; docs/rules.md lists exactly what
+ * is detected. A unit that does not fit the field cannot be compiled, so it
+ * is an error. Diagnostics come sorted by file (in load order), line, column.
  */
 sx_status sx_ruleset_load(const char *dir, sx_ruleset **out, sx_diag_list *diags);
 void sx_ruleset_free(sx_ruleset *rs);
@@ -96,5 +103,44 @@ sx_status sx_ruleset_evaluate(const sx_ruleset *rs, sx_rule_pass pass,
 /* HL7 code mapping: the data-dictionary field (or -1) a site's local
  * observation code maps to, given coding system and code ("L", "BUBBLES"). */
 int sx_ruleset_map_code(const sx_ruleset *rs, const char *system, const char *code);
+
+/* ---- added with the rule language (issue 4) -------------------------------- */
+
+/*
+ * The analyser's sensitivity to a volatile agent, for the electrode-
+ * interference mechanism: the fraction of the pO2 reading added per volume %
+ * of the agent in the breathing gas, as {low, nominal, high} (the estimate
+ * uses nominal, the interval the ends). agent is a canonical name as
+ * `classify agents` gives it ("halothane", "nitrous-oxide"). For an agent the
+ * model has a parameter for (electrode.halothane, electrode.nitrous_oxide,
+ * ...) the value is that parameter's in the ruleset's settings, which the
+ * statement `sensitivity AGENT = ...` sets; for another agent, what the
+ * ruleset's `sensitivity` says. Returns false and {0, 0, 0} when there is
+ * neither.
+ */
+bool sx_ruleset_agent_sensitivity(const sx_ruleset *rs, const char *agent, sx_range *out);
+
+/* What a ruleset holds, for `syrinx rules` and audits. */
+typedef struct sx_ruleset_stats {
+	size_t files;
+	size_t rules, rules_before_model, rules_after_model;
+	size_t limits, reasons, patterns, agents, codes, settings;
+} sx_ruleset_stats;
+void sx_ruleset_stats_get(const sx_ruleset *rs, sx_ruleset_stats *out);
+
+/* Rule i in evaluation order (i < stats.rules): its name, pass and
+ * file:line. Returns false past the end. */
+bool sx_ruleset_rule_at(const sx_ruleset *rs, size_t i, const char **name, sx_rule_pass *pass,
+			const char **ref);
+
+/*
+ * For showing a diagnostic under its source line (the library never prints):
+ * the text of line `line` of a file without its line end, sx_malloc'd (the
+ * caller frees it with sx_free), or NULL when it cannot be read; and the
+ * caret line for a column: a space for every character before it (a tab
+ * where the source has a tab, so the caret lines up), then '^'.
+ */
+char *sx_ruleset_source_line(const char *file, unsigned line);
+void sx_ruleset_caret_line(const char *line_text, unsigned column, char *buf, size_t size);
 
 #endif

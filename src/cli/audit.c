@@ -42,6 +42,8 @@ static const char audit_usage[] =
         "what to read:\n"
         "  --db FILE              the decision log (SQLite), opened read-only\n"
         "  FEED...                feed files to screen instead ('-' for standard input)\n"
+        "  --ruleset DIR          the ruleset for screening feed files (default: the\n"
+        "                         shipped rulesets/default)\n"
         "  --input auto|xml|hl7   format of the feed files (default auto)\n"
         "\n"
         "which verdicts (by default all of them):\n"
@@ -92,6 +94,7 @@ typedef struct audit_run {
 	sx_feed_format input;
 	int utc_offset_min;
 	const char *db;
+	const char *ruleset;
 	const char *title;
 	output html, csv, json;
 	bool progress;
@@ -246,7 +249,8 @@ static void audit_log(audit_run *run, sx_dlog *log)
 static void screen_file(audit_run *run, const sx_screener *screener, FILE *fp, const char *name,
                         sx_row_builder *b)
 {
-	sx_feed_options fo = {run->input, run->utc_offset_min};
+	sx_feed_options fo = {run->input, run->utc_offset_min, sx_screener_map_code,
+			      (void *)screener};
 	sx_diag_list diags;
 	sx_feed *feed = NULL;
 	sx_specimen s;
@@ -314,15 +318,11 @@ out:
 
 static void audit_files(audit_run *run, char **files, int count)
 {
-	sx_settings settings;
 	sx_screener *screener = NULL;
 	sx_row_builder b;
 	struct stat sb;
 
-	sx_settings_defaults(&settings);
-	settings.utc_offset_min = run->utc_offset_min;
-	if (sx_screener_new(&settings, &screener) != SX_OK) {
-		fprintf(stderr, "syrinx audit: error: %s\n", sx_status_message(SX_ENOMEM));
+	if (sx_cli_load_screener("audit", run->ruleset, &screener) != SX_EXIT_OK) {
 		run->failed = 1;
 		return;
 	}
@@ -388,6 +388,7 @@ int sx_cmd_audit(int argc, char **argv)
 		O_DISPOSITION,
 		O_REASON,
 		O_OFFSET,
+		O_RULESET,
 		O_HTML,
 		O_CSV,
 		O_JSON,
@@ -405,6 +406,7 @@ int sx_cmd_audit(int argc, char **argv)
 	        {"disposition", required_argument, NULL, O_DISPOSITION},
 	        {"reason", required_argument, NULL, O_REASON},
 	        {"utc-offset", required_argument, NULL, O_OFFSET},
+	        {"ruleset", required_argument, NULL, O_RULESET},
 	        {"html", required_argument, NULL, O_HTML},
 	        {"csv", required_argument, NULL, O_CSV},
 	        {"json", required_argument, NULL, O_JSON},
@@ -467,6 +469,9 @@ int sx_cmd_audit(int argc, char **argv)
 				return usage_error("--disposition takes accept, comment or reject, "
 				                   "not '%s'",
 				                   optarg);
+			break;
+		case O_RULESET:
+			run.ruleset = optarg;
 			break;
 		case O_OFFSET:
 			if (sx_parse_offset(optarg, &run.utc_offset_min) != SX_OK)

@@ -39,8 +39,11 @@ static const char check_usage[] =
 	"                         report every schema error with its line\n"
 	"  --schema FILE          the schema for --validate (default: the shipped\n"
 	"                         docs/schema/feed.xsd)\n"
+	"  --ruleset DIR          the ruleset (default: the shipped rulesets/default);\n"
+	"                         one with an error is refused (see syrinx rules)\n"
 	"  --utc-offset OFFSET    offset assumed for times without one, such as +01:00\n"
-	"                         (default +00:00); each assumption is noted\n"
+	"                         (default: the ruleset's site.utc_offset); each\n"
+	"                         assumption is noted\n"
 	"  --fail-on comment|reject\n"
 	"                         exit with status 3 when a specimen gets that\n"
 	"                         disposition or a worse one\n"
@@ -65,13 +68,15 @@ typedef struct check_options {
 	int format;
 	int validate;
 	const char *schema;
+	const char *ruleset;
+	int utc_offset_given;
 	int utc_offset_min;
 	int fail_on;             /* -1 none, else an sx_disposition */
 } check_options;
 
 typedef struct check_run {
 	const check_options *opt;
-	sx_settings settings;
+	sx_screener *screener;
 	sx_strbuf out;
 	sx_tally tally;
 	int worst;               /* worst disposition seen, -1 none */
@@ -146,7 +151,7 @@ static void screen_one(check_run *run, sx_specimen *s, const sx_feed_item *item,
 			errs[nerr++] = &diags->items[i];
 	ri.error_count = nerr;
 	if (item->input_errors == 0) {
-		if (sx_screen_specimen(s, &run->settings, &verdict) == SX_OK) {
+		if (sx_screener_run(run->screener, s, &verdict) == SX_OK) {
 			for (size_t i = mark; i < diags->count; i++)
 				if (diags->items[i].severity == SX_WARNING)
 					sx_verdict_add_warning(&verdict, "%s",
@@ -174,7 +179,8 @@ static void screen_one(check_run *run, sx_specimen *s, const sx_feed_item *item,
 
 static void check_input(check_run *run, FILE *fp, const char *name)
 {
-	sx_feed_options fo = {run->opt->input, run->opt->utc_offset_min};
+	sx_feed_options fo = {run->opt->input, run->opt->utc_offset_min, sx_screener_map_code,
+			      run->screener};
 	sx_diag_list diags;
 	sx_feed *feed = NULL;
 	sx_specimen s;
@@ -225,11 +231,12 @@ int sx_cmd_check(int argc, char **argv)
 	static const struct option longopts[] = {
 		{"input", required_argument, NULL, 'i'},   {"format", required_argument, NULL, 'f'},
 		{"validate", no_argument, NULL, 'V'},      {"schema", required_argument, NULL, 's'},
+		{"ruleset", required_argument, NULL, 'r'},
 		{"utc-offset", required_argument, NULL, 'z'},
 		{"fail-on", required_argument, NULL, 'F'}, {"help", no_argument, NULL, 'h'},
 		{NULL, 0, NULL, 0},
 	};
-	check_options opt = {SX_FEED_AUTO, FORMAT_TEXT, 0, NULL, 0, -1};
+	check_options opt = {SX_FEED_AUTO, FORMAT_TEXT, 0, NULL, NULL, 0, 0, -1};
 	check_run run;
 	int c, status;
 
@@ -267,6 +274,9 @@ int sx_cmd_check(int argc, char **argv)
 		case 'V':
 			opt.validate = 1;
 			break;
+		case 'r':
+			opt.ruleset = optarg;
+			break;
 		case 's':
 			opt.schema = optarg;
 			break;
@@ -277,6 +287,7 @@ int sx_cmd_check(int argc, char **argv)
 					optarg);
 				return SX_EXIT_USAGE;
 			}
+			opt.utc_offset_given = 1;
 			break;
 		case 'F':
 			opt.fail_on = parse_disposition(optarg);
@@ -299,8 +310,11 @@ int sx_cmd_check(int argc, char **argv)
 	memset(&run, 0, sizeof run);
 	run.opt = &opt;
 	run.worst = -1;
-	sx_settings_defaults(&run.settings);
-	run.settings.utc_offset_min = opt.utc_offset_min;
+	status = sx_cli_load_screener("check", opt.ruleset, &run.screener);
+	if (status != SX_EXIT_OK)
+		return status;
+	if (!opt.utc_offset_given)
+		opt.utc_offset_min = sx_screener_settings(run.screener)->utc_offset_min;
 	sx_strbuf_init(&run.out, 0);
 	{
 		/* reproducible output when asked (the reproducible-builds convention) */
@@ -348,6 +362,7 @@ int sx_cmd_check(int argc, char **argv)
 		flush_out(&run);
 	}
 	sx_strbuf_free(&run.out);
+	sx_screener_free(run.screener);
 	if (fflush(stdout) != 0) {
 		fprintf(stderr, "syrinx check: cannot write the output: %s\n", strerror(errno));
 		return SX_EXIT_SOFTWARE;

@@ -28,6 +28,16 @@ void sx_cli_print_diags(FILE *out, const sx_diag_list *list);
  * tree), then the installed data directory. Returns a malloc'd path or NULL. */
 char *sx_cli_find_data(const char *relative);
 
+/* Print a diagnostic and, when it points into a readable file with a line, that
+ * line and a caret under the column (rule files). */
+void sx_cli_print_diag_source(FILE *out, const sx_diag *d);
+
+struct sx_screener;
+/* Load the screener of ruleset folder dir (NULL: the shipped default, found as
+ * sx_cli_find_data says). Every error and warning is printed with its source
+ * line; a ruleset with an error is refused. Returns an exit status (0: ok). */
+int sx_cli_load_screener(const char *command, const char *dir, struct sx_screener **out);
+
 int sx_cmd_check(int argc, char **argv);
 int sx_cmd_audit(int argc, char **argv);
 int sx_cmd_rules(int argc, char **argv);

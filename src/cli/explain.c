@@ -26,7 +26,9 @@ static const char explain_usage[] =
 	"options:\n"
 	"  --specimen ID          the specimen_id to explain (required)\n"
 	"  --input auto|xml|hl7   feed format (default auto)\n"
-	"  --utc-offset OFFSET    offset assumed for times without one (default +00:00)\n"
+	"  --ruleset DIR          the ruleset (default: the shipped rulesets/default)\n"
+	"  --utc-offset OFFSET    offset assumed for times without one (default: the\n"
+	"                         ruleset's site.utc_offset)\n"
 	"  -h, --help             this text\n"
 	"\n"
 	"exit status: 0 explained; 1 the specimen was not found or its input has errors;\n"
@@ -36,9 +38,9 @@ static const char explain_usage[] =
 	"  syrinx explain --specimen BG-260314-0016 fixtures/demo/morning.xml\n";
 
 static int explain_one(FILE *fp, const char *name, sx_feed_format format, int offset,
-		       const char *id)
+		       int offset_given, const char *id, const char *ruleset)
 {
-	sx_feed_options fo = {format, offset};
+	sx_feed_options fo = {format, offset, sx_screener_map_code, NULL};
 	sx_diag_list diags;
 	sx_feed *feed = NULL;
 	sx_specimen s;
@@ -50,10 +52,13 @@ static int explain_one(FILE *fp, const char *name, sx_feed_format format, int of
 
 	sx_diag_list_init(&diags);
 	sx_specimen_init(&s);
-	if (sx_screener_new(NULL, &screener) != SX_OK) {
-		status = SX_EXIT_SOFTWARE;
+	status = sx_cli_load_screener("explain", ruleset, &screener);
+	if (status != SX_EXIT_OK)
 		goto out;
-	}
+	status = SX_EXIT_INPUT;
+	fo.map_context = screener;
+	if (!offset_given)
+		fo.default_offset_min = sx_screener_settings(screener)->utc_offset_min;
 	if (sx_feed_open(fp, name, &fo, &feed, &diags) != SX_OK)
 		goto out;
 	while (got) {
@@ -111,9 +116,11 @@ int sx_cmd_explain(int argc, char **argv)
 	static const struct option longopts[] = {
 		{"specimen", required_argument, NULL, 's'}, {"input", required_argument, NULL, 'i'},
 		{"utc-offset", required_argument, NULL, 'z'}, {"help", no_argument, NULL, 'h'},
+		{"ruleset", required_argument, NULL, 'r'},
 		{NULL, 0, NULL, 0},
 	};
-	const char *id = NULL;
+	const char *id = NULL, *ruleset = NULL;
+	int offset_given = 0;
 	sx_feed_format format = SX_FEED_AUTO;
 	int offset = 0, c, status;
 	FILE *fp;
@@ -138,7 +145,11 @@ int sx_cmd_explain(int argc, char **argv)
 				return SX_EXIT_USAGE;
 			}
 			break;
+		case 'r':
+			ruleset = optarg;
+			break;
 		case 'z':
+			offset_given = 1;
 			if (sx_parse_offset(optarg, &offset) != SX_OK) {
 				fprintf(stderr, "syrinx explain: --utc-offset takes an offset such as "
 						"+01:00, not '%s'\n",
@@ -163,13 +174,13 @@ int sx_cmd_explain(int argc, char **argv)
 		return SX_EXIT_USAGE;
 	}
 	if (optind == argc || strcmp(argv[optind], "-") == 0)
-		return explain_one(stdin, "-", format, offset, id);
+		return explain_one(stdin, "-", format, offset, offset_given, id, ruleset);
 	fp = fopen(argv[optind], "rb");
 	if (!fp) {
 		fprintf(stderr, "%s: error: cannot open: %s\n", argv[optind], strerror(errno));
 		return SX_EXIT_INPUT;
 	}
-	status = explain_one(fp, argv[optind], format, offset, id);
+	status = explain_one(fp, argv[optind], format, offset, offset_given, id, ruleset);
 	fclose(fp);
 	return status;
 }

@@ -10,6 +10,8 @@
 
 #include "cli/cli.h"
 #include "core/alloc.h"
+#include "model/screen.h"
+#include "rules/ruleset.h"
 
 #ifndef SX_PKGDATADIR
 #define SX_PKGDATADIR "/usr/local/share/syrinx"
@@ -26,6 +28,7 @@ static const char usage[] =
 	"            HTML with charts, CSV or JSON\n"
 	"  check     screen specimens from XML or HL7 v2 feed files, or standard input\n"
 	"  explain   show one specimen's timeline and what each mechanism did\n"
+	"  rules     check a ruleset: every error with its file, line, column and a caret\n"
 	"  serve     screen a live HL7 feed over MLLP into the decision log\n"
 	"\n"
 	"  syrinx <command> --help   shows the command's options\n"
@@ -54,6 +57,55 @@ void sx_cli_print_diags(FILE *out, const sx_diag_list *list)
 		sx_cli_print_diag(out, &list->items[i]);
 	if (list->dropped)
 		fprintf(out, "syrinx: note: %zu further diagnostics were not kept\n", list->dropped);
+}
+
+void sx_cli_print_diag_source(FILE *out, const sx_diag *d)
+{
+	char *line;
+	char caret[1024];
+	sx_cli_print_diag(out, d);
+	if (!d->file || d->line == 0)
+		return;
+	line = sx_ruleset_source_line(d->file, d->line);
+	if (!line)
+		return;
+	fprintf(out, "%s\n", line);
+	if (d->column) {
+		sx_ruleset_caret_line(line, d->column, caret, sizeof caret);
+		fprintf(out, "%s\n", caret);
+	}
+	sx_free(line);
+}
+
+int sx_cli_load_screener(const char *command, const char *dir, sx_screener **out)
+{
+	char *found = NULL;
+	sx_diag_list diags;
+	sx_status st;
+	*out = NULL;
+	if (!dir) {
+		found = sx_cli_find_data("rulesets/default");
+		if (!found) {
+			fprintf(stderr, "syrinx %s: error: the shipped ruleset rulesets/default was "
+					"not found (set SYRINX_DATADIR or say --ruleset DIR)\n",
+				command);
+			return SX_EXIT_INPUT;
+		}
+		dir = found;
+	}
+	sx_diag_list_init(&diags);
+	st = sx_screener_load(dir, out, &diags);
+	for (size_t i = 0; i < diags.count; i++)
+		sx_cli_print_diag_source(stderr, &diags.items[i]);
+	if (st != SX_OK && st != SX_ENOMEM)
+		fprintf(stderr, "syrinx %s: error: the ruleset %s has %zu error%s and was not "
+				"loaded; nothing was screened\n",
+			command, dir, diags.errors, diags.errors == 1 ? "" : "s");
+	sx_diag_list_clear(&diags);
+	sx_free(found);
+	if (st == SX_ENOMEM)
+		return SX_EXIT_SOFTWARE;
+	return st == SX_OK ? SX_EXIT_OK : SX_EXIT_INPUT;
 }
 
 static char *join(const char *dir, const char *rel)
@@ -92,6 +144,15 @@ char *sx_cli_find_data(const char *rel)
 			*slash = '\0';
 			if ((p = try_path(exe, rel)))
 				return p;
+#ifdef SX_SOURCE_TREE
+			/* run from a build folder (configured there: config.status beside the
+			 * program): the data of the source tree it was built from */
+			if ((p = try_path(exe, "config.status"))) {
+				sx_free(p);
+				if ((p = try_path(SX_SOURCE_TREE, rel)))
+					return p;
+			}
+#endif
 		}
 	}
 	/* installed: docs/schema/feed.xsd lives at $(pkgdatadir)/schema/feed.xsd */
@@ -121,6 +182,8 @@ int main(int argc, char **argv)
 		return sx_cmd_check(argc - 1, argv + 1);
 	if (strcmp(argv[1], "explain") == 0)
 		return sx_cmd_explain(argc - 1, argv + 1);
+	if (strcmp(argv[1], "rules") == 0)
+		return sx_cmd_rules(argc - 1, argv + 1);
 	if (strcmp(argv[1], "serve") == 0)
 		return sx_cmd_serve(argc - 1, argv + 1);
 	fprintf(stderr, "syrinx: '%s' is not a command\n\n%s", argv[1], usage);

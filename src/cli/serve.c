@@ -32,11 +32,14 @@ static const char serve_usage[] =
 	"\n"
 	"options:\n"
 	"  --db FILE              the decision log; created when missing (required)\n"
+	"  --ruleset DIR          the ruleset (default: the shipped rulesets/default);\n"
+	"                         SIGHUP reads it again\n"
 	"  --listen HOST:PORT     where to listen (default 127.0.0.1:2575; a wider\n"
 	"                         address such as 0.0.0.0:2575 only when you say so)\n"
 	"  --forward HOST:PORT    also send one result message (ORU^R01) per screened\n"
 	"                         specimen to this MLLP peer\n"
 	"  --utc-offset OFFSET    offset for times with none, when MSH-7 has none\n"
+	"                         (default: the ruleset's site.utc_offset)\n"
 	"  --max-frame BYTES      largest message accepted (default 1048576); a larger\n"
 	"                         one is answered AR\n"
 	"  --idle-timeout SEC     close a silent connection after this (default 300)\n"
@@ -115,17 +118,41 @@ static int positive(const char *text, long max, long *out)
 	return 0;
 }
 
+typedef struct reload_state {
+	const char *ruleset;       /* NULL: the shipped default */
+	void *journal;
+	sx_screener *current;      /* owned */
+	sx_screener *retired[8];   /* kept until exit: a turn may still be using one */
+	size_t retired_count;
+} reload_state;
+
+/* SIGHUP: read the ruleset again; a ruleset with errors is refused (its errors are
+ * logged) and the one in use is kept. */
 static const sx_screener *reload_policy(void *context)
 {
-	/* The policy is the built-in one until rule files are read: nothing to reload. */
-	log_line(context, SX_NOTE, "SIGHUP: the policy is built in; nothing to reload");
-	return NULL;
+	reload_state *r = context;
+	sx_screener *fresh = NULL;
+	log_line(r->journal, SX_NOTE, "SIGHUP: reading the ruleset again");
+	if (sx_cli_load_screener("serve", r->ruleset, &fresh) != SX_EXIT_OK) {
+		log_line(r->journal, SX_ERROR,
+			 "the new ruleset was refused (errors above); the one in use is kept");
+		return NULL;
+	}
+	if (r->retired_count == sizeof r->retired / sizeof r->retired[0]) {
+		sx_screener_free(r->retired[0]);
+		memmove(r->retired, r->retired + 1, sizeof r->retired - sizeof r->retired[0]);
+		r->retired_count--;
+	}
+	r->retired[r->retired_count++] = r->current;
+	r->current = fresh;
+	return fresh;
 }
 
 int sx_cmd_serve(int argc, char **argv)
 {
 	static const struct option longopts[] = {
 		{"db", required_argument, NULL, 'd'},
+		{"ruleset", required_argument, NULL, 'r'},
 		{"listen", required_argument, NULL, 'l'},
 		{"forward", required_argument, NULL, 'f'},
 		{"utc-offset", required_argument, NULL, 'z'},
@@ -141,19 +168,24 @@ int sx_cmd_serve(int argc, char **argv)
 	sx_server_config cfg;
 	sx_diag_list diags;
 	sx_dlog *log = NULL;
-	sx_screener *screener = NULL;
 	sx_server *server = NULL;
+	reload_state rl;
+	int offset_given = 0;
 	struct sigaction sa;
 	int c, status = SX_EXIT_OK, port = 2575;
 	long v;
 	void *journal = getenv("JOURNAL_STREAM") ? (void *)1 : NULL;
 
 	sx_server_config_defaults(&cfg);
+	memset(&rl, 0, sizeof rl);
 	optind = 1;
 	while ((c = getopt_long(argc, argv, "h", longopts, NULL)) != -1) {
 		switch (c) {
 		case 'd':
 			db = optarg;
+			break;
+		case 'r':
+			rl.ruleset = optarg;
 			break;
 		case 'l':
 			if (parse_host_port(optarg, host, sizeof host, &port) != 0) {
@@ -174,6 +206,7 @@ int sx_cmd_serve(int argc, char **argv)
 			cfg.forward_host = fwd_host;
 			break;
 		case 'z':
+			offset_given = 1;
 			if (sx_parse_offset(optarg, &cfg.default_offset_min) != SX_OK) {
 				fprintf(stderr, "syrinx serve: --utc-offset takes an offset such as "
 						"+01:00, not '%s'\n",
@@ -225,7 +258,8 @@ int sx_cmd_serve(int argc, char **argv)
 	cfg.stop_flag = &stop_requested;
 	cfg.reload_flag = &reload_requested;
 	cfg.reload = reload_policy;
-	cfg.reload_context = journal;
+	cfg.reload_context = &rl;
+	rl.journal = journal;
 
 	memset(&sa, 0, sizeof sa);
 	sa.sa_handler = SIG_IGN;
@@ -242,11 +276,12 @@ int sx_cmd_serve(int argc, char **argv)
 		status = SX_EXIT_INPUT;
 		goto out;
 	}
-	if (sx_screener_new(NULL, &screener) != SX_OK) {
-		status = SX_EXIT_SOFTWARE;
+	status = sx_cli_load_screener("serve", rl.ruleset, &rl.current);
+	if (status != SX_EXIT_OK)
 		goto out;
-	}
-	if (sx_server_new(&cfg, screener, log, &server, &diags) != SX_OK) {
+	if (!offset_given)
+		cfg.default_offset_min = sx_screener_settings(rl.current)->utc_offset_min;
+	if (sx_server_new(&cfg, rl.current, log, &server, &diags) != SX_OK) {
 		sx_cli_print_diags(stderr, &diags);
 		status = SX_EXIT_INPUT;
 		goto out;
@@ -255,7 +290,9 @@ int sx_cmd_serve(int argc, char **argv)
 		status = SX_EXIT_SOFTWARE;
 out:
 	sx_server_free(server);
-	sx_screener_free(screener);
+	sx_screener_free(rl.current);
+	for (size_t i = 0; i < rl.retired_count; i++)
+		sx_screener_free(rl.retired[i]);
 	sx_dlog_close(log);
 	sx_diag_list_clear(&diags);
 	return status;

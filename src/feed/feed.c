@@ -114,7 +114,8 @@ sx_status sx_feed_open(FILE *fp, const char *name, const sx_feed_options *option
 		st = sx_xml_feed_open(feed_read, f, name, options->default_offset_min, &f->xml);
 		break;
 	case SX_FEED_HL7: {
-		sx_hl7_options ho = {options->default_offset_min, name, NULL, NULL};
+		sx_hl7_options ho = {options->default_offset_min, name, options->map_code,
+				     options->map_context};
 		st = sx_hl7_feed_open(feed_read, f, &ho, &f->hl7);
 		break;
 	}

@@ -30,6 +30,10 @@ typedef enum sx_feed_format {
 typedef struct sx_feed_options {
 	sx_feed_format format;
 	int default_offset_min;     /* for times without an offset */
+	/* HL7 only: a site's local observation codes -> data-dictionary field (or -1);
+	 * may be NULL (sx_screener_map_code with the screener as context fits) */
+	int (*map_code)(void *context, const char *system, const char *code);
+	void *map_context;
 } sx_feed_options;
 
 typedef struct sx_feed sx_feed;
@@ -53,6 +57,9 @@ sx_status sx_feed_open(FILE *fp, const char *name, const sx_feed_options *option
 /*
  * The next specimen. *got is false at the end of the input (or after an error
  * that ends it, such as XML that is not well formed: that error is in diags).
+ * A problem of an HL7 message as a whole (MSH-7, MSH-10, a message skipped)
+ * comes with the next specimen: the status is then not SX_OK while *got is
+ * still true.
  */
 sx_status sx_feed_next(sx_feed *feed, sx_specimen *specimen, sx_feed_item *item, bool *got,
 		       sx_diag_list *diags);

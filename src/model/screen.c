@@ -2,33 +2,35 @@
 /*
  * screen.c - the screening pipeline for one specimen.
  *
+ *   1. classify free text into fields (the ruleset's PCRE2 patterns);
+ *   2. the timeline from the times, and the facts known before the model
+ *      (delays, alveolar pO2, saturation from the reading, shares of bubble and
+ *      heparin, halothane);
+ *   3. the rules' first pass: which mechanisms apply, with which parameters,
+ *      reasons, empirical bias terms, a disposition;
+ *   4. the model (model/estimate.c): the bias with its interval, the pO2
+ *      before the error, each mechanism's share;
+ *   5. the facts after the model (the bias) and the rules' second pass.
+ *
+ * Policy lives in the ruleset only. Without one, every mechanism the record
+ * gives grounds for is on and nothing decides: the model alone, for tests and
+ * for callers that want numbers only.
+ *
  * Bias convention: bias = pO2 the analyser reads - pO2 at collection.
- *
- * With a measured pO2 the model runs backwards: the content at analysis
- * (at 37 C in the analyser) plus what the cells consumed gives the content at
- * collection, and through the curve the pO2 before the error. Without a
- * reading it runs forwards from a prior: the alveolar gas equation and a
- * normal A-a gradient for the patient's age.
- *
- * The interval: every parameter with a range (rates, Q10, time precision)
- * moves the bias in one direction, so the bias at the parameters' lower and
- * upper ends bounds it; the estimate uses the nominal values.
  */
 #include "model/screen.h"
-
-#include "core/alloc.h"
 
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
 
+#include "core/alloc.h"
 #include "model/atmosphere.h"
-#include "model/consistency.h"
 #include "model/estimate.h"
+#include "model/facts.h"
 #include "model/oxygen.h"
 #include "model/timeline.h"
-
-#define RULE_BUILTIN "built-in"
+#include "rules/ruleset.h"
 
 static double barometric(const sx_specimen *s, const sx_settings *st)
 {
@@ -41,58 +43,81 @@ static double barometric(const sx_specimen *s, const sx_settings *st)
 	return sx_barometric_from_altitude(st->site_altitude_m);
 }
 
-static void check_alveolar(const sx_specimen *s, const sx_settings *st, double pb,
-			   sx_verdict *v)
+static void fact(sx_facts *f, sx_fact which, double value)
 {
-	sx_alveolar_check c;
-	double pco2;
-	int type = sx_specimen_has(s, SX_F_SPECIMEN_TYPE) ? s->choice[SX_F_SPECIMEN_TYPE] : 0;
-
-	if (!sx_specimen_has(s, SX_F_PO2) || !sx_specimen_has(s, SX_F_FIO2))
-		return;
-	if (type == SX_TYPE_VENOUS || type == SX_TYPE_MIXED_VENOUS || type == SX_TYPE_CORD)
-		return;
-	pco2 = sx_specimen_has(s, SX_F_PCO2) ? s->number[SX_F_PCO2] : st->default_pco2;
-	c = sx_consistency_alveolar(s->number[SX_F_PO2], s->number[SX_F_FIO2], pb, pco2,
-				    st->resp_quotient, st->alveolar_tolerance_mmhg,
-				    st->alveolar_tolerance_fraction);
-	if (c.exceeded)
-		sx_verdict_add_reason(v, "po2-above-alveolar", SX_REASON_REJECT, RULE_BUILTIN,
-				      "pO2 %.0f mmHg is above the alveolar pO2 of %.0f mmHg that "
-				      "FiO2 %.2f allows (alveolar gas equation); air in the "
-				      "specimen or a wrong FiO2 is likely",
-				      s->number[SX_F_PO2], c.pao2, s->number[SX_F_FIO2]);
-}
-
-static void check_delay(const sx_specimen *s, const sx_settings *st, const sx_timeline *tl,
-			sx_verdict *v)
-{
-	bool iced = sx_specimen_has(s, SX_F_STORAGE) &&
-		    s->choice[SX_F_STORAGE] == SX_STORAGE_ICED;
-	bool high_wbc = sx_specimen_has(s, SX_F_WBC) && s->number[SX_F_WBC] >= st->high_wbc;
-	double limit = iced ? st->delay_limit_iced_min : st->delay_limit_room_min;
-	const char *why = iced ? "iced" : "at room temperature";
-
-	if (!tl->known)
-		return;
-	if (high_wbc && st->delay_limit_high_wbc_min < limit) {
-		limit = st->delay_limit_high_wbc_min;
-		why = "with a high leukocyte count";
+	if (isfinite(value)) {
+		f->has[which] = true;
+		f->value[which] = value;
 	}
-	if (tl->total_min > st->delay_reject_min)
-		sx_verdict_add_reason(v, "delay-too-long", SX_REASON_REJECT, RULE_BUILTIN,
-				      "analysed %.0f min after collection; the limit for any "
-				      "storage is %.0f min",
-				      tl->total_min, st->delay_reject_min);
-	else if (tl->total_min > limit)
-		sx_verdict_add_reason(v, "delay-beyond-limit", SX_REASON_COMMENT, RULE_BUILTIN,
-				      "analysed %.0f min after collection; the limit %s is %.0f "
-				      "min",
-				      tl->total_min, why, limit);
 }
 
-/* Which mechanisms apply to this specimen (until the ruleset decides). */
-static void switch_on(const sx_specimen *s, bool *on)
+/* What is known before the model. */
+static void facts_before(const sx_specimen *s, const sx_settings *st, double pb, sx_facts *f)
+{
+	const sx_time *c = &s->time[SX_F_COLLECTED_AT], *r = &s->time[SX_F_RECEIVED_AT],
+		      *a = &s->time[SX_F_ANALYSED_AT];
+	bool hc = sx_specimen_has(s, SX_F_COLLECTED_AT), hr = sx_specimen_has(s, SX_F_RECEIVED_AT),
+	     ha = sx_specimen_has(s, SX_F_ANALYSED_AT);
+	double pco2 = sx_specimen_has(s, SX_F_PCO2) && s->number[SX_F_PCO2] > 0
+			      ? s->number[SX_F_PCO2]
+			      : st->default_pco2;
+
+	memset(f, 0, sizeof *f);
+	if (hc && ha)
+		fact(f, SX_FACT_DELAY_MIN, sx_time_minutes_between(c, a));
+	if (hc && hr)
+		fact(f, SX_FACT_TRANSPORT_MIN, sx_time_minutes_between(c, r));
+	if (hr && ha)
+		fact(f, SX_FACT_WAIT_MIN, sx_time_minutes_between(r, a));
+	fact(f, SX_FACT_BAROMETRIC_MMHG, pb);
+	if (sx_specimen_has(s, SX_F_FIO2)) {
+		double pao2 = sx_alveolar_po2(s->number[SX_F_FIO2], pb, pco2, st->resp_quotient);
+		fact(f, SX_FACT_ALVEOLAR_PO2_MMHG, pao2);
+		if (sx_specimen_has(s, SX_F_PO2))
+			fact(f, SX_FACT_ALVEOLAR_EXCESS_MMHG, s->number[SX_F_PO2] - pao2);
+	}
+	if (sx_specimen_has(s, SX_F_PO2)) {
+		sx_blood_state b = sx_blood_state_standard();
+		double sat;
+		b.ph = sx_specimen_has(s, SX_F_PH) ? s->number[SX_F_PH] : st->default_ph;
+		b.pco2 = pco2;
+		sat = 100.0 * sx_o2_saturation(s->number[SX_F_PO2], &b);
+		fact(f, SX_FACT_SAT_FROM_PO2, sat);
+		if (sx_specimen_has(s, SX_F_SPO2))
+			fact(f, SX_FACT_SPO2_GAP, s->number[SX_F_SPO2] - sat);
+	}
+	if (sx_specimen_has(s, SX_F_BUBBLE_VOLUME_UL) && sx_specimen_has(s, SX_F_FILL_VOLUME_ML) &&
+	    s->number[SX_F_FILL_VOLUME_ML] > 0)
+		fact(f, SX_FACT_BUBBLE_FRACTION,
+		     100.0 * s->number[SX_F_BUBBLE_VOLUME_UL] / 1000.0 /
+			     s->number[SX_F_FILL_VOLUME_ML]);
+	if (sx_specimen_has(s, SX_F_HEPARIN_VOLUME_ML) && sx_specimen_has(s, SX_F_FILL_VOLUME_ML)) {
+		double h = s->number[SX_F_HEPARIN_VOLUME_ML], b = s->number[SX_F_FILL_VOLUME_ML];
+		if (h + b > 0)
+			fact(f, SX_FACT_HEPARIN_FRACTION, 100.0 * h / (h + b));
+	}
+	for (size_t i = 0; i < s->agent_count; i++)
+		if (strcmp(s->agents[i].name, "halothane") == 0)
+			fact(f, SX_FACT_AGENT_HALOTHANE,
+			     s->agents[i].percent >= 0 ? s->agents[i].percent
+						       : st->default_agent_percent);
+}
+
+static void facts_after(const sx_specimen *s, const sx_verdict *v, sx_facts *f)
+{
+	if (!v->has_bias)
+		return;
+	fact(f, SX_FACT_BIAS_MMHG, v->bias_mmhg.estimate);
+	fact(f, SX_FACT_BIAS_LOW_MMHG, v->bias_mmhg.low);
+	fact(f, SX_FACT_BIAS_HIGH_MMHG, v->bias_mmhg.high);
+	fact(f, SX_FACT_BIAS_ABS_MMHG, fabs(v->bias_mmhg.estimate));
+	if (sx_specimen_has(s, SX_F_PO2) && s->number[SX_F_PO2] > 0)
+		fact(f, SX_FACT_BIAS_PERCENT,
+		     100.0 * fabs(v->bias_mmhg.estimate) / s->number[SX_F_PO2]);
+}
+
+/* The model alone: every mechanism the record gives grounds for. */
+static void switch_on_all(const sx_specimen *s, bool *on)
 {
 	int bubbles = sx_specimen_has(s, SX_F_BUBBLES) ? s->choice[SX_F_BUBBLES] : 0;
 	on[SX_MECH_METABOLISM] = true;
@@ -107,33 +132,62 @@ static void switch_on(const sx_specimen *s, bool *on)
 	on[SX_MECH_ELECTRODE] = s->agent_count > 0;
 }
 
-static void apply_policy(const sx_settings *st, double reading, sx_verdict *v)
+/* The outcome's reasons and disposition into the verdict. */
+static void take_outcome(const sx_rule_outcome *o, size_t from, sx_verdict *v)
 {
-	double allowable = fmax(st->allowable_error_mmhg, st->allowable_error_fraction * reading);
-	double bias = v->bias_mmhg.estimate;
-	if (fabs(bias) > st->reject_factor * allowable)
-		sx_verdict_add_reason(v, "bias-reject", SX_REASON_REJECT, RULE_BUILTIN,
-				      "estimated pO2 bias %+.1f mmHg is more than %.0f times the "
-				      "allowable error of %.1f mmHg",
-				      bias, st->reject_factor, allowable);
-	else if (fabs(bias) > allowable)
-		sx_verdict_add_reason(v, "bias-beyond-allowable", SX_REASON_COMMENT, RULE_BUILTIN,
-				      "estimated pO2 bias %+.1f mmHg exceeds the allowable error "
-				      "of %.1f mmHg",
-				      bias, allowable);
+	for (size_t i = from; i < o->reason_count; i++) {
+		const sx_reason *r = &o->reasons[i];
+		sx_verdict_add_reason(v, r->code, r->severity, r->rule, "%s", r->message);
+	}
+	if (o->disposition >= 0)
+		sx_verdict_raise(v, (sx_disposition)o->disposition);
 }
 
-static sx_status screen(const sx_specimen *s, const sx_settings *st, sx_verdict *v,
-			sx_explanation *ex)
+static sx_status screen(sx_specimen *s, const sx_settings *base, const sx_ruleset *rs,
+			sx_verdict *v, sx_explanation *ex)
 {
+	static _Thread_local sx_rule_outcome outcome; /* large: off the stack */
+	const sx_settings *st = base;
 	sx_timeline tl;
 	sx_estimate_input in;
 	sx_estimate_result r;
-	double pb = barometric(s, st);
-	double reading;
+	sx_facts facts;
+	size_t taken = 0;
+	double pb;
 	sx_status status;
 
 	sx_verdict_init(v);
+	if (rs) {
+		sx_diag_list notes;
+		sx_diag_list_init(&notes);
+		status = sx_ruleset_classify(rs, s, &notes);
+		for (size_t i = 0; i < notes.count; i++)
+			sx_verdict_add_warning(v, "%s", notes.items[i].message);
+		sx_diag_list_clear(&notes);
+		if (status != SX_OK)
+			return status;
+		sx_rule_outcome_init(&outcome, rs);
+		st = &outcome.settings;
+	}
+	pb = barometric(s, st);
+	facts_before(s, st, pb, &facts);
+	memset(&in, 0, sizeof in);
+	if (rs) {
+		status = sx_ruleset_evaluate(rs, SX_PASS_BEFORE_MODEL, s, &facts, &outcome);
+		if (status != SX_OK)
+			return status;
+		for (int m = 0; m < SX_MECH_COUNT; m++)
+			in.on[m] = outcome.mechanism_on[m] && sx_mechanism_built((sx_mechanism)m);
+		take_outcome(&outcome, 0, v);
+		taken = outcome.reason_count;
+		for (size_t k = 0; k < outcome.term_count && k < SX_MAX_EMPIRICAL; k++) {
+			in.terms[k] = outcome.terms[k].bias_mmhg;
+			in.term_labels[k] = outcome.terms[k].label;
+			in.term_count++;
+		}
+	} else {
+		switch_on_all(s, in.on);
+	}
 	if (!sx_specimen_has(s, SX_F_HB))
 		sx_verdict_add_warning(v, "hb: not given; %.1f g/dL (%.0f to %.0f) assumed",
 				       st->default_hb.nominal, st->default_hb.low,
@@ -143,58 +197,64 @@ static sx_status screen(const sx_specimen *s, const sx_settings *st, sx_verdict 
 		ex->timeline = tl;
 		ex->has_trace = false;
 	}
-	if (sx_specimen_has(s, SX_F_COLLECTED_AT) && sx_specimen_has(s, SX_F_ANALYSED_AT) &&
-	    tl.total_min > SX_MAX_DELAY_MIN)
-		sx_verdict_add_reason(v, "delay-beyond-model", SX_REASON_REJECT, RULE_BUILTIN,
-				      "analysed %.1f h after collection: far beyond any time "
-				      "limit for blood gases",
-				      tl.total_min / 60.0);
-	check_alveolar(s, st, pb, v);
-	check_delay(s, st, &tl, v);
-	if (!tl.known)
-		return SX_OK;
-
-	memset(&in, 0, sizeof in);
-	in.specimen = s;
-	in.settings = st;
-	in.timeline = &tl;
-	in.barometric_mmhg = pb;
-	switch_on(s, in.on);
-	if (!sx_specimen_has(s, SX_F_PO2) && !sx_specimen_has(s, SX_F_FIO2))
-		sx_verdict_add_warning(v, "fio2: not given; room air (0.21) assumed for the "
-					  "expected pO2");
-	status = sx_estimate_run(&in, &r, ex ? &ex->trace : NULL);
-	if (status != SX_OK)
-		return status;
-	if (ex) {
-		ex->timeline = tl;
-		ex->has_trace = true;
-		memcpy(ex->on, in.on, sizeof ex->on);
+	if (tl.known && !(rs && outcome.final)) {
+		in.specimen = s;
+		in.settings = st;
+		in.timeline = &tl;
+		in.barometric_mmhg = pb;
+		if (!sx_specimen_has(s, SX_F_PO2) && !sx_specimen_has(s, SX_F_FIO2))
+			sx_verdict_add_warning(v, "fio2: not given; room air (0.21) assumed for the "
+						  "expected pO2");
+		status = sx_estimate_run(&in, &r, ex ? &ex->trace : NULL);
+		if (status != SX_OK)
+			return status;
+		if (ex) {
+			ex->has_trace = true;
+			memcpy(ex->on, in.on, sizeof ex->on);
+		}
+		v->has_bias = true;
+		v->bias_mmhg = r.bias;
+		v->has_before = r.has_before;
+		v->po2_before_mmhg = r.before;
+		if (r.implausible)
+			sx_verdict_add_warning(v, "po2: the mechanisms modelled can explain this "
+						  "reading only with a pO2 at collection above the "
+						  "%.0f mmHg the FiO2 allows; the estimate is unreliable",
+					       r.po2_ceiling);
+		for (int m = 0; m < SX_MECH_COUNT; m++)
+			if (in.on[m])
+				sx_verdict_add_mechanism(v, sx_mechanism_name((sx_mechanism)m),
+							 r.share[m]);
+		for (size_t k = 0; k < in.term_count; k++) {
+			char name[32];
+			snprintf(name, sizeof name, "local:%s", in.term_labels[k]);
+			sx_verdict_add_mechanism(v, name, r.term_share[k]);
+		}
 	}
-	v->has_bias = true;
-	v->bias_mmhg = r.bias;
-	v->has_before = r.has_before;
-	if (r.implausible)
-		sx_verdict_add_warning(v, "po2: the mechanisms modelled can explain this reading only "
-					  "with a pO2 at collection above the %.0f mmHg the FiO2 "
-					  "allows; the estimate is unreliable",
-				       r.po2_ceiling);
-	v->po2_before_mmhg = r.before;
-	for (int m = 0; m < SX_MECH_COUNT; m++)
-		if (in.on[m] && sx_mechanism_built((sx_mechanism)m))
-			sx_verdict_add_mechanism(v, sx_mechanism_name((sx_mechanism)m), r.share[m]);
-	reading = sx_specimen_has(s, SX_F_PO2) ? s->number[SX_F_PO2] : r.prior_po2;
-	apply_policy(st, reading, v);
+	if (rs && !outcome.final) {
+		facts_after(s, v, &facts);
+		status = sx_ruleset_evaluate(rs, SX_PASS_AFTER_MODEL, s, &facts, &outcome);
+		if (status != SX_OK)
+			return status;
+		take_outcome(&outcome, taken, v);
+	}
+	if (rs && (outcome.reasons_dropped || outcome.terms_dropped))
+		sx_verdict_add_warning(v, "ruleset: %zu reasons and %zu bias terms past the limits "
+					  "were not kept",
+				       outcome.reasons_dropped, outcome.terms_dropped);
 	return SX_OK;
 }
 
-sx_status sx_screen_specimen(const sx_specimen *s, const sx_settings *st, sx_verdict *v)
+sx_status sx_screen_specimen(sx_specimen *s, const sx_settings *st, const sx_ruleset *rs,
+			     sx_verdict *v)
 {
-	return screen(s, st, v, NULL);
+	return screen(s, st, rs, v, NULL);
 }
 
 struct sx_screener {
 	sx_settings settings;
+	sx_ruleset *rules;      /* owned; NULL for the model alone */
+	char version[160];
 };
 
 sx_status sx_screener_new(const sx_settings *settings, sx_screener **out)
@@ -207,12 +267,35 @@ sx_status sx_screener_new(const sx_settings *settings, sx_screener **out)
 		s->settings = *settings;
 	else
 		sx_settings_defaults(&s->settings);
+	snprintf(s->version, sizeof s->version, "model only (no ruleset)");
+	*out = s;
+	return SX_OK;
+}
+
+sx_status sx_screener_load(const char *dir, sx_screener **out, sx_diag_list *diags)
+{
+	sx_screener *s;
+	sx_status st;
+	*out = NULL;
+	s = sx_calloc(1, sizeof *s);
+	if (!s)
+		return SX_ENOMEM;
+	st = sx_ruleset_load(dir, &s->rules, diags);
+	if (st != SX_OK) {
+		sx_free(s);
+		return st;
+	}
+	s->settings = *sx_ruleset_settings(s->rules);
+	snprintf(s->version, sizeof s->version, "%s", sx_ruleset_version(s->rules));
 	*out = s;
 	return SX_OK;
 }
 
 void sx_screener_free(sx_screener *s)
 {
+	if (!s)
+		return;
+	sx_ruleset_free(s->rules);
 	sx_free(s);
 }
 
@@ -221,19 +304,29 @@ const sx_settings *sx_screener_settings(const sx_screener *s)
 	return &s->settings;
 }
 
+const sx_ruleset *sx_screener_ruleset(const sx_screener *s)
+{
+	return s->rules;
+}
+
 const char *sx_screener_version(const sx_screener *s)
 {
-	(void)s;
-	return "built-in 0.1";
+	return s->version;
+}
+
+int sx_screener_map_code(void *screener, const char *system, const char *code)
+{
+	const sx_screener *s = screener;
+	return s && s->rules ? sx_ruleset_map_code(s->rules, system, code) : -1;
 }
 
 sx_status sx_screener_run(const sx_screener *s, sx_specimen *specimen, sx_verdict *verdict)
 {
-	return sx_screen_specimen(specimen, &s->settings, verdict);
+	return screen(specimen, &s->settings, s->rules, verdict, NULL);
 }
 
 sx_status sx_screener_explain(const sx_screener *s, sx_specimen *specimen, sx_explanation *out)
 {
 	memset(out, 0, sizeof *out);
-	return screen(specimen, &s->settings, &out->verdict, out);
+	return screen(specimen, &s->settings, s->rules, &out->verdict, out);
 }

@@ -17,8 +17,17 @@
 #include "model/timeline.h"
 #include "model/verdict.h"
 
-sx_status sx_screen_specimen(const sx_specimen *specimen, const sx_settings *settings,
-			     sx_verdict *verdict);
+struct sx_ruleset;
+
+/*
+ * Screen one specimen with a ruleset (which decides the mechanisms, the
+ * reasons and the disposition) or, with rs NULL, the model alone: every
+ * mechanism the record gives grounds for is on, and no policy is applied (no
+ * reasons; the disposition stays accept). The specimen is completed in place
+ * by the ruleset's classification of free text.
+ */
+sx_status sx_screen_specimen(sx_specimen *specimen, const sx_settings *settings,
+			     const struct sx_ruleset *rs, sx_verdict *verdict);
 
 /*
  * A screener holds what screening needs besides the specimen: the settings
@@ -30,7 +39,16 @@ sx_status sx_screen_specimen(const sx_specimen *specimen, const sx_settings *set
  */
 typedef struct sx_screener sx_screener;
 
+/* A screener with the model alone (no ruleset): see sx_screen_specimen. */
 sx_status sx_screener_new(const sx_settings *settings, sx_screener **out);
+/* A screener with the ruleset of folder dir; its errors go to diags and no
+ * screener is made (SX_ESYNTAX, SX_EIO). */
+sx_status sx_screener_load(const char *dir, sx_screener **out, sx_diag_list *diags);
+/* The ruleset (NULL for the model alone). */
+const struct sx_ruleset *sx_screener_ruleset(const sx_screener *screener);
+/* For the HL7 reader's site codes (context: the screener): the field a local
+ * observation code maps to, or -1. */
+int sx_screener_map_code(void *screener, const char *system, const char *code);
 void sx_screener_free(sx_screener *screener);
 const sx_settings *sx_screener_settings(const sx_screener *screener);
 /* A short text naming the policy in force (the ruleset's version line),

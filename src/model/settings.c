@@ -94,14 +94,7 @@ void sx_settings_defaults(sx_settings *s)
 	s->alveolar_tolerance_mmhg = 4.5;     /* 0.6 kPa, analyser performance [R, quoted] */
 	s->alveolar_tolerance_fraction = 0.075;
 
-	s->allowable_error_mmhg = 4.5;        /* 95 % within 7.5 % or 0.6 kPa [R, quoted] */
-	s->allowable_error_fraction = 0.075;
-	s->reject_factor = 2.0;
-	s->delay_limit_room_min = 30.0;       /* CLSI C46-A2 [M] */
-	s->delay_limit_iced_min = 60.0;       /* glass on ice stable 60 min (Mahoney 1991) [R] */
-	s->delay_reject_min = 60.0;           /* one hospital laboratory [R] */
-	s->high_wbc = 50.0;
-	s->delay_limit_high_wbc_min = 5.0;    /* CLSI C46-A2 [M] */
+	/* Time limits and the disposition thresholds are the ruleset's (rules/limits). */
 }
 
 /* ---- the parameter registry ------------------------------------------------ */
@@ -217,12 +210,6 @@ static const sx_param_info params[] = {
 	       "pO2 may exceed the alveolar pO2 by this much (analyser error)"),
 	SCALAR("alveolar.tolerance_fraction", SX_Q_FRACTION, "1", alveolar_tolerance_fraction, 0,
 	       1, "... or by this fraction of the alveolar pO2"),
-	SCALAR("policy.allowable_error", SX_Q_PRESSURE, "mmHg", allowable_error_mmhg, 0, 100,
-	       "allowable pO2 error: the larger of this ..."),
-	SCALAR("policy.allowable_error_fraction", SX_Q_FRACTION, "1", allowable_error_fraction, 0,
-	       1, "... and this fraction of the reading"),
-	SCALAR("policy.reject_factor", SX_Q_NONE, "1", reject_factor, 1, 100,
-	       "reject when the bias exceeds this many allowable errors"),
 };
 
 size_t sx_param_count(void)

@@ -80,15 +80,6 @@ typedef struct sx_settings {
 	double alveolar_tolerance_mmhg;     /* pO2 may exceed PAO2 by this much ... */
 	double alveolar_tolerance_fraction; /* ... or this fraction of PAO2 */
 
-	/* disposition policy */
-	double allowable_error_mmhg;   /* analyser's allowable error: the larger of */
-	double allowable_error_fraction; /* mmHg and fraction of the reading */
-	double reject_factor;          /* reject when |bias| > factor x allowable */
-	double delay_limit_room_min;   /* plastic at room temperature */
-	double delay_limit_iced_min;
-	double delay_reject_min;       /* any storage */
-	double high_wbc;               /* 10^9/L: time limit shortens */
-	double delay_limit_high_wbc_min;
 } sx_settings;
 
 void sx_settings_defaults(sx_settings *settings);

@@ -315,30 +315,32 @@ static void accept_all(sx_server *s, double now)
 static void sender_of(const sx_hl7_result *res, char *out, size_t size)
 {
 	const char *m = res->msh;
-	size_t n = res->msh_len, field = 1, start = 0;
-	char sep;
+	size_t n = res->msh_len, field = 2, start = 0;
+	char sep, comp;
 	out[0] = '\0';
-	if (!m || n < 4)
+	if (!m || n < 5)
 		return;
 	sep = m[3];
-	/* MSH-1 is the separator itself: the text after "MSH|" is MSH-2, MSH-3, ... */
+	comp = m[4]; /* MSH-2's first character: the component separator */
+	/* MSH-1 is the separator itself: the text after "MSH|" is MSH-2 (field 2 from
+	 * byte 4 on), then MSH-3, ... Counting from 1 here would take MSH-4^MSH-5. */
 	for (size_t i = 4; i <= n; i++) {
-		if (i == n || m[i] == sep) {
-			field++;
-			if (field == 3)
-				start = i + 1;
-			else if (field == 5) {
-				size_t len = i - start;
-				char comp = m[4]; /* MSH-2's first character: the component separator */
-				if (len >= size)
-					len = size - 1;
-				memcpy(out, m + start, len);
-				out[len] = '\0';
-				for (size_t k = 0; k < len; k++)
-					if (out[k] == sep)
-						out[k] = comp; /* MSH-3 and MSH-4 joined by ^ */
-				return;
-			}
+		if (i < n && m[i] != sep)
+			continue;
+		field++;
+		if (field == 3) {
+			start = i + 1;
+		} else if (field > 3 && (field == 5 || i == n)) {
+			/* MSH-3 and MSH-4 (or MSH-3 alone when the segment ends there) */
+			size_t len = i - start;
+			if (len >= size)
+				len = size - 1;
+			memcpy(out, m + start, len);
+			out[len] = '\0';
+			for (size_t k = 0; k < len; k++)
+				if (out[k] == sep)
+					out[k] = comp; /* MSH-3 and MSH-4 joined by ^ */
+			return;
 		}
 	}
 }
@@ -476,7 +478,8 @@ static pending *next_pending(sx_server *s, size_t slot)
 static void take_message(sx_server *s, size_t slot, const uint8_t *data, size_t len)
 {
 	pending *p = next_pending(s, slot);
-	sx_hl7_options ho = {s->cfg.default_offset_min, s->conns[slot].peer, NULL, NULL};
+	sx_hl7_options ho = {s->cfg.default_offset_min, s->conns[slot].peer, sx_screener_map_code,
+			     (void *)s->screener};
 	sx_hl7_ack_options ao = {0};
 	sx_hl7_result res;
 	int64_t received = wall_ms();

@@ -53,8 +53,19 @@ int main(int argc, char **argv)
 		return 2;
 	}
 	sx_diag_list_init(&diags);
-	if (sx_dlog_open(argv[arg], SX_DLOG_WRITE | SX_DLOG_CREATE, &log, &diags) != SX_OK ||
-	    sx_screener_new(NULL, &screener) != SX_OK) {
+	{
+		/* the same policy as syrinx audit and check: the shipped default ruleset */
+		const char *top = getenv("SYRINX_DATADIR") ? getenv("SYRINX_DATADIR")
+							  : getenv("SX_SRCDIR");
+		char dir[4096];
+		snprintf(dir, sizeof dir, "%s/rulesets/default", top ? top : ".");
+		if (sx_screener_load(dir, &screener, &diags) != SX_OK) {
+			for (size_t i = 0; i < diags.count; i++)
+				fprintf(stderr, "%s: %s\n", dir, diags.items[i].message);
+			return 1;
+		}
+	}
+	if (sx_dlog_open(argv[arg], SX_DLOG_WRITE | SX_DLOG_CREATE, &log, &diags) != SX_OK) {
 		for (size_t i = 0; i < diags.count; i++)
 			fprintf(stderr, "%s: %s\n", argv[arg], diags.items[i].message);
 		return 1;
@@ -63,7 +74,7 @@ int main(int argc, char **argv)
 	start = now_s();
 	for (int f = arg + 1; f < argc; f++) {
 		FILE *fp = fopen(argv[f], "rb");
-		sx_feed_options fo = {SX_FEED_AUTO, 0};
+		sx_feed_options fo = {SX_FEED_AUTO, 0, sx_screener_map_code, screener};
 		sx_feed *feed = NULL;
 		sx_specimen s;
 		sx_feed_item item;

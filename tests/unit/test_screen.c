@@ -10,6 +10,23 @@
 #include <string.h>
 
 #include "model/screen.h"
+#include "rules/ruleset.h"
+
+/* The shipped default ruleset: these tests screen as the product does. */
+static const sx_ruleset *rules(void)
+{
+	static sx_ruleset *rs;
+	if (!rs) {
+		const char *src = getenv("SX_SRCDIR");
+		char dir[4096];
+		sx_diag_list d;
+		sx_diag_list_init(&d);
+		snprintf(dir, sizeof dir, "%s/rulesets/default", src ? src : ".");
+		ck_assert_msg(sx_ruleset_load(dir, &rs, &d) == SX_OK, "cannot load %s", dir);
+		sx_diag_list_clear(&d);
+	}
+	return rs;
+}
 
 /* A specimen built from "field=value" pairs; times at +00:00. */
 static void build(sx_specimen *s, const char *const *pairs)
@@ -44,7 +61,7 @@ static sx_verdict screen_delay(double po2, int minutes, double wbc, const char *
 	snprintf(st, sizeof st, "storage=%s", storage);
 	build(&s, pairs);
 	sx_settings_defaults(&set);
-	ck_assert_int_eq(sx_screen_specimen(&s, &set, &v), SX_OK);
+	ck_assert_int_eq(sx_screen_specimen(&s, sx_ruleset_settings(rules()), rules(), &v), SX_OK);
 	sx_specimen_clear(&s);
 	return v;
 }
@@ -132,7 +149,7 @@ START_TEST(a_30_hour_delay_is_flagged_not_modelled)
 	sx_verdict v;
 	build(&s, pairs);
 	sx_settings_defaults(&set);
-	ck_assert_int_eq(sx_screen_specimen(&s, &set, &v), SX_OK);
+	ck_assert_int_eq(sx_screen_specimen(&s, sx_ruleset_settings(rules()), rules(), &v), SX_OK);
 	ck_assert(!v.has_bias);
 	ck_assert_int_eq(v.disposition, SX_REJECT);
 	ck_assert_uint_ge(v.warning_count, 1);
@@ -150,7 +167,7 @@ START_TEST(times_in_the_wrong_order_are_a_warning)
 	sx_verdict v;
 	build(&s, pairs);
 	sx_settings_defaults(&set);
-	ck_assert_int_eq(sx_screen_specimen(&s, &set, &v), SX_OK);
+	ck_assert_int_eq(sx_screen_specimen(&s, sx_ruleset_settings(rules()), rules(), &v), SX_OK);
 	ck_assert(!v.has_bias);
 	ck_assert_ptr_nonnull(strstr(v.warnings[v.warning_count - 1], "before collected_at"));
 	sx_specimen_clear(&s);
@@ -172,12 +189,12 @@ START_TEST(po2_above_the_alveolar_gas_equation_is_rejected)
 	sx_verdict v;
 	sx_settings_defaults(&set);
 	build(&s, pairs);
-	ck_assert_int_eq(sx_screen_specimen(&s, &set, &v), SX_OK);
+	ck_assert_int_eq(sx_screen_specimen(&s, sx_ruleset_settings(rules()), rules(), &v), SX_OK);
 	ck_assert_int_eq(v.disposition, SX_REJECT);
 	ck_assert_str_eq(v.reasons[0].code, "po2-above-alveolar");
 	sx_specimen_clear(&s);
 	build(&s, ok_pairs);
-	ck_assert_int_eq(sx_screen_specimen(&s, &set, &v), SX_OK);
+	ck_assert_int_eq(sx_screen_specimen(&s, sx_ruleset_settings(rules()), rules(), &v), SX_OK);
 	ck_assert_int_eq(v.disposition, SX_ACCEPT);
 	sx_specimen_clear(&s);
 }
@@ -192,7 +209,7 @@ START_TEST(without_a_reading_the_prior_is_used)
 	sx_verdict v;
 	build(&s, pairs);
 	sx_settings_defaults(&set);
-	ck_assert_int_eq(sx_screen_specimen(&s, &set, &v), SX_OK);
+	ck_assert_int_eq(sx_screen_specimen(&s, sx_ruleset_settings(rules()), rules(), &v), SX_OK);
 	ck_assert(v.has_bias);
 	ck_assert(!v.has_before);
 	ck_assert(v.bias_mmhg.estimate < 0);
@@ -226,7 +243,7 @@ static sx_verdict screen_with(double po2, int minutes, const char *const *extra)
 	pairs[n] = NULL;
 	build(&s, pairs);
 	sx_settings_defaults(&set);
-	ck_assert_int_eq(sx_screen_specimen(&s, &set, &v), SX_OK);
+	ck_assert_int_eq(sx_screen_specimen(&s, sx_ruleset_settings(rules()), rules(), &v), SX_OK);
 	sx_specimen_clear(&s);
 	return v;
 }
@@ -289,7 +306,7 @@ START_TEST(halothane_reads_high)
 	build(&s, pairs);
 	ck_assert_int_eq(sx_specimen_add_agent(&s, "halothane", 9, 1.5), SX_OK);
 	sx_settings_defaults(&set);
-	ck_assert_int_eq(sx_screen_specimen(&s, &set, &with), SX_OK);
+	ck_assert_int_eq(sx_screen_specimen(&s, sx_ruleset_settings(rules()), rules(), &with), SX_OK);
 	sx_specimen_clear(&s);
 	without = screen_with(200, 5, none);
 	ck_assert(share_of(&with, "electrode-interference") > 0);

@@ -63,7 +63,7 @@ int main(int argc, char **argv)
 	sx_ruleset *rs = NULL;
 	sx_diag_list d;
 	sx_ruleset_stats st;
-	sx_feed_options fo = {SX_FEED_AUTO, 0};
+	sx_feed_options fo = {SX_FEED_AUTO, 0, NULL, NULL};
 	sx_feed *feed = NULL;
 	sx_feed_item item;
 	bool got = true;

@@ -650,7 +650,7 @@ static void feed_file(const char *rel, sx_feed_format format, fed *out)
 {
 	char path[1024];
 	FILE *fp;
-	sx_feed_options fo = {format, 60};
+	sx_feed_options fo = {format, 60, NULL, NULL};
 	sx_feed *f;
 	bool got = true;
 	memset(out, 0, sizeof *out);

@@ -57,80 +57,11 @@ static sx_syringe_wall_params flat(double c, double k)
 
 #define REF_ARGS 8
 #define REF_ROWS 256
+#include "reftable.h"
 
-struct ref_row {
-	char kind[32];
-	double a[REF_ARGS];
-	double value;
-};
-
-static struct ref_row ref_rows[REF_ROWS];
-static int ref_count;
-static char ref_path[1024];
-static char ref_error[1200];
-
-/* Read the table once, before the runner forks; rows of other kinds are
- * kept too (they are skipped by the row test). Errors are kept for the test
- * that checks the table is there. */
 static void ref_load(void)
 {
-	const char *dir = getenv("SX_REFDIR");
-	char line[1024];
-	FILE *f;
-
-	if (!dir || !*dir)
-		dir = "tests/reference";
-	snprintf(ref_path, sizeof(ref_path), "%s/mechanisms_scipy.tsv", dir);
-	f = fopen(ref_path, "r");
-	if (!f) {
-		snprintf(ref_error, sizeof(ref_error), "cannot open %s (set SX_REFDIR)", ref_path);
-		return;
-	}
-	while (fgets(line, sizeof(line), f)) {
-		struct ref_row *r;
-		size_t n = strcspn(line, "\t");
-		char *s, *end;
-		int i;
-
-		if (line[0] == '#' || line[0] == '\n' || strncmp(line, "kind\t", 5) == 0)
-			continue;
-		if (ref_count == REF_ROWS || n == 0 || n >= sizeof(r->kind) || line[n] != '\t') {
-			snprintf(ref_error, sizeof(ref_error), "%s: bad row %d", ref_path,
-			         ref_count + 1);
-			break;
-		}
-		r = &ref_rows[ref_count];
-		memcpy(r->kind, line, n);
-		r->kind[n] = '\0';
-		s = line + n;
-		for (i = 0; i <= REF_ARGS; i++) {
-			double v = strtod(s, &end);
-
-			if (end == s)
-				break;
-			if (i < REF_ARGS)
-				r->a[i] = v;
-			else
-				r->value = v;
-			s = end;
-		}
-		if (i <= REF_ARGS) {
-			snprintf(ref_error, sizeof(ref_error), "%s: short row %d", ref_path,
-			         ref_count + 1);
-			break;
-		}
-		ref_count++;
-	}
-	fclose(f);
-}
-
-static int ref_count_kind(const char *kind)
-{
-	int i, n = 0;
-
-	for (i = 0; i < ref_count; i++)
-		n += strcmp(ref_rows[i].kind, kind) == 0;
-	return n;
+	ref_load_named("mechanisms_scipy.tsv");
 }
 
 /* ---- the fit's output (tests/reference/wall_fit.tsv) ---- */

@@ -13,6 +13,8 @@
 
 #include <libxml/xmlreader.h>
 #include <libxml/xmlschemas.h>
+#include <stdarg.h>
+#include <stdio.h>
 #include <string.h>
 
 #include "core/alloc.h"
@@ -28,6 +30,17 @@ struct sx_xml_feed {
 	unsigned fatal_line;
 };
 
+/* libxml2's messages may span lines: one diagnostic is one line. */
+static void one_line(char *text)
+{
+	size_t n = strlen(text);
+	while (n && (text[n - 1] == '\n' || text[n - 1] == ' '))
+		text[--n] = '\0';
+	for (char *p = text; *p; p++)
+		if (*p == '\n')
+			*p = ' ';
+}
+
 static void on_error(void *arg, xmlErrorPtr error)
 {
 	sx_xml_feed *f = arg;
@@ -39,7 +52,30 @@ static void on_error(void *arg, xmlErrorPtr error)
 	n = strlen(error->message ? error->message : "");
 	snprintf(f->fatal, sizeof f->fatal, "%.*s", (int)(n && error->message[n - 1] == '\n' ? n - 1 : n),
 		 error->message ? error->message : "unknown XML error");
+	one_line(f->fatal);
 	f->fatal_line = (unsigned)error->line;
+}
+
+/* libxml2 reports some problems (encoding, I/O) through its generic handler, which
+ * prints to stderr by default: keep the first one as the feed's error instead. */
+static void on_generic_error(void *arg, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
+static void on_generic_error(void *arg, const char *fmt, ...)
+{
+	sx_xml_feed *f = arg;
+	va_list ap;
+	if (!f || f->fatal[0])
+		return;
+	va_start(ap, fmt);
+	vsnprintf(f->fatal, sizeof f->fatal, fmt, ap);
+	va_end(ap);
+	one_line(f->fatal);
+}
+
+static void silent(void *arg, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
+static void silent(void *arg, const char *fmt, ...)
+{
+	(void)arg;
+	(void)fmt;
 }
 
 sx_status sx_xml_feed_open(sx_read_fn read, void *context, const char *name,
@@ -57,6 +93,7 @@ sx_status sx_xml_feed_open(sx_read_fn read, void *context, const char *name,
 		return SX_ENOMEM;
 	}
 	xmlTextReaderSetStructuredErrorHandler(f->reader, on_error, f);
+	xmlSetGenericErrorFunc(f, on_generic_error); /* per thread in libxml2 */
 	*out = f;
 	return SX_OK;
 }
@@ -66,6 +103,7 @@ void sx_xml_feed_close(sx_xml_feed *f)
 	if (!f)
 		return;
 	xmlFreeTextReader(f->reader);
+	xmlSetGenericErrorFunc(NULL, silent);
 	sx_free(f);
 }
 
@@ -365,7 +403,9 @@ sx_status sx_xml_feed_next(sx_xml_feed *f, sx_specimen *s, sx_feed_item *item, b
 	f->finished = true;
 	if (r < 0) {
 		sx_where w = {f->name, f->fatal_line, 0, NULL, NULL};
-		sx_diag_add(diags, SX_ERROR, SX_ESYNTAX, &w, "%s",
+		sx_diag_add(diags, SX_ERROR, SX_ESYNTAX, &w,
+			    "%s; the rest of the input was not read: every specimen not reported "
+			    "before this error was not screened",
 			    f->fatal[0] ? f->fatal : "the XML is not well formed");
 		return SX_ESYNTAX;
 	}
@@ -433,6 +473,7 @@ sx_status sx_xml_validate(sx_read_fn read, void *context, const char *name,
 		goto out;
 	}
 	xmlTextReaderSetStructuredErrorHandler(reader, on_schema_error, &e);
+	xmlSetGenericErrorFunc(NULL, silent);
 	xmlSchemaSetValidStructuredErrors(vctx, on_schema_error, &e);
 	if (xmlTextReaderSchemaValidateCtxt(reader, vctx, 0) != 0) {
 		st = SX_EINVALID;

@@ -36,6 +36,11 @@
 
 #define READ_CHUNK 65536
 #define MAX_READS_PER_TURN 16
+/* Back-pressure: a connection is not read while whole frames of it wait in its decoder,
+ * or while more than this of its ACKs wait to be written (a sender that sends and does
+ * not read). Its data then waits in the kernel and TCP slows the sender down, so the
+ * memory a connection holds stays bounded (about a turn's reads, a frame, and this). */
+#define MAX_PENDING_OUT (1u << 20)
 #define MAX_SENDER 256
 
 typedef struct conn {
@@ -525,16 +530,28 @@ static void take_message(sx_server *s, size_t slot, const uint8_t *data, size_t 
 	}
 	{
 		sx_strbuf stored;
+		char stored_sha[SX_SHA256_HEX], sha[SX_SHA256_HEX];
 		sx_strbuf_init(&stored, 0);
-		if (sx_dlog_find_ack(s->log, p->sender, p->control_id, &stored, NULL, &found) ==
-			    SX_OK &&
+		stored_sha[0] = '\0';
+		if (sx_dlog_find_ack(s->log, p->sender, p->control_id, &stored, stored_sha,
+		                     &found) == SX_OK &&
 		    found) {
 			sx_strbuf_reset(&p->ack);
 			sx_strbuf_append(&p->ack, stored.data, stored.len);
 			s->counts.resends++;
-			say(s, SX_NOTE, "message %s from %s was sent before: answered with the "
-					"ACK it had, not logged again",
-			    p->control_id, p->sender);
+			fingerprint(data, len, sha);
+			if (strcmp(sha, stored_sha) == 0)
+				say(s, SX_NOTE,
+				    "message %s from %s was sent before: answered with "
+				    "the ACK it had, not logged again",
+				    p->control_id, p->sender);
+			else
+				say(s, SX_WARNING,
+				    "message %s from %s reuses the control id of a "
+				    "different message already logged: answered with "
+				    "that message's ACK, not screened or logged; the "
+				    "sender should use a new MSH-10",
+				    p->control_id, p->sender);
 		}
 		sx_strbuf_free(&stored);
 	}
@@ -587,11 +604,13 @@ static void take_frames(sx_server *s, size_t slot, double now)
 	const uint8_t *msg;
 	size_t len;
 	sx_mllp_event e;
+	int ended = 0;
 	c->buffered = 0;
 	while (s->batch_count < s->cfg.max_batch) {
 		e = sx_mllp_next(c->decoder, &msg, &len);
 		if (e == SX_MLLP_NONE)
 			break;
+		ended = 1;
 		if (e == SX_MLLP_FRAME)
 			take_message(s, slot, msg, len);
 		else
@@ -599,8 +618,13 @@ static void take_frames(sx_server *s, size_t slot, double now)
 	}
 	if (s->batch_count >= s->cfg.max_batch)
 		c->buffered = 1; /* more may be waiting: next turn */
-	c->frame_since = sx_mllp_in_frame(c->decoder) ? (c->frame_since ? c->frame_since : now)
-						       : 0;
+	/* The stalled-frame clock runs from the start of the frame now open. When a frame
+	 * ended in these bytes, the open one (if any) began in them too: start again, or a
+	 * sender whose frames keep straddling reads would be cut off as stalled. */
+	if (!sx_mllp_in_frame(c->decoder))
+		c->frame_since = 0;
+	else if (ended || !c->frame_since)
+		c->frame_since = now;
 }
 
 static void read_conn(sx_server *s, size_t slot, double now)
@@ -851,11 +875,14 @@ static int one_turn(sx_server *s, int accepting, int timeout_ms)
 	}
 	for (size_t i = 0; i < s->cfg.max_connections; i++) {
 		conn *c = &s->conns[i];
+		int reading;
 		if (c->fd < 0)
 			continue;
+		reading = !c->peer_closed && !c->buffered &&
+			  c->out.len - c->out_pos <= MAX_PENDING_OUT;
 		any_buffered |= c->buffered;
 		fds[n].fd = c->fd;
-		fds[n].events = (c->peer_closed ? 0 : POLLIN) | (c->out_pos < c->out.len ? POLLOUT : 0);
+		fds[n].events = (reading ? POLLIN : 0) | (c->out_pos < c->out.len ? POLLOUT : 0);
 		slots[n++] = i;
 	}
 	r = poll(fds, n, any_buffered ? 0 : timeout_ms);

@@ -13,7 +13,7 @@ tests_unit_test_mllp_LDADD = $(TEST_LIBS)
 # loopback only. The peers' tests skip (77) where node or python3-hl7 cannot be had.
 SCRIPT_TESTS += tests/serve/framing.sh tests/serve/errors.sh tests/serve/resend.sh \
 	tests/serve/signals.sh tests/serve/crash.sh tests/serve/node-client.sh \
-	tests/serve/mllp-send.sh
+	tests/serve/mllp-send.sh tests/serve/forward.sh
 
 # make bench-serve: messages per second and latency of syrinx serve (not in make check;
 # figures in docs/performance.md). BENCH_SERVE_ARGS passes options to tests/bench/serve.py.

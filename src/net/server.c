@@ -81,6 +81,8 @@ struct sx_server {
 	sx_server_counts counts;
 	/* forwarding */
 	int fwd_fd;
+	int fwd_connecting;       /* a non-blocking connect() is under way */
+	double fwd_connect_until;
 	sx_strbuf fwd_out;
 	size_t fwd_pos;
 	double fwd_retry_at;
@@ -728,11 +730,52 @@ static void finish_batch(sx_server *s)
 
 /* ---- forwarding result messages to a downstream peer ------------------------- */
 
+static void forward_failed(sx_server *s, double now, const char *why)
+{
+	if (s->fwd_fd >= 0)
+		close(s->fwd_fd);
+	s->fwd_fd = -1;
+	s->fwd_connecting = 0;
+	s->fwd_retry_at = now + 5;
+	say(s, SX_WARNING, "cannot connect to the forwarding peer %s:%d (%s); retrying in 5 s",
+	    s->cfg.forward_host, s->cfg.forward_port, why);
+}
+
+static void forward_connected(sx_server *s)
+{
+	s->fwd_connecting = 0;
+	if (!s->fwd_decoder)
+		sx_mllp_decoder_new(0, &s->fwd_decoder);
+	say(s, SX_NOTE, "forwarding to %s:%d", s->cfg.forward_host, s->cfg.forward_port);
+}
+
+/*
+ * Connect to the forwarding peer without ever blocking the loop: a peer that does not
+ * answer (a firewall that drops, a full accept queue) would otherwise hold every MLLP
+ * connection still for the kernel's connect timeout, minutes. The connect runs in the
+ * background; each turn looks whether it is done, and gives up after 10 s.
+ */
 static void forward_connect(sx_server *s, double now)
 {
 	struct addrinfo hints, *res = NULL;
 	char port[16];
 	int fd;
+	if (s->fwd_connecting) {
+		struct pollfd pfd = {s->fwd_fd, POLLOUT, 0};
+		int err = 0;
+		socklen_t len = sizeof err;
+		if (poll(&pfd, 1, 0) > 0) {
+			if (getsockopt(s->fwd_fd, SOL_SOCKET, SO_ERROR, &err, &len) != 0)
+				err = errno;
+			if (err)
+				forward_failed(s, now, strerror(err));
+			else
+				forward_connected(s);
+		} else if (now > s->fwd_connect_until) {
+			forward_failed(s, now, "no answer in 10 s");
+		}
+		return;
+	}
 	if (s->fwd_fd >= 0 || s->cfg.forward_port <= 0 || now < s->fwd_retry_at)
 		return;
 	memset(&hints, 0, sizeof hints);
@@ -744,19 +787,19 @@ static void forward_connect(sx_server *s, double now)
 		s->fwd_retry_at = now + 5;
 		return;
 	}
-	fd = socket(res->ai_family, SOCK_STREAM | SOCK_CLOEXEC, 0);
-	if (fd >= 0 && connect(fd, res->ai_addr, res->ai_addrlen) == 0 &&
-	    set_nonblocking(fd) == 0) {
+	fd = socket(res->ai_family, SOCK_STREAM | SOCK_CLOEXEC | SOCK_NONBLOCK, 0);
+	if (fd < 0) {
+		forward_failed(s, now, strerror(errno));
+	} else if (connect(fd, res->ai_addr, res->ai_addrlen) == 0) {
 		s->fwd_fd = fd;
-		if (!s->fwd_decoder)
-			sx_mllp_decoder_new(0, &s->fwd_decoder);
-		say(s, SX_NOTE, "forwarding to %s:%d", s->cfg.forward_host, s->cfg.forward_port);
+		forward_connected(s);
+	} else if (errno == EINPROGRESS) {
+		s->fwd_fd = fd;
+		s->fwd_connecting = 1;
+		s->fwd_connect_until = now + 10;
 	} else {
-		if (fd >= 0)
-			close(fd);
-		s->fwd_retry_at = now + 5;
-		say(s, SX_WARNING, "cannot connect to the forwarding peer %s:%d; retrying in 5 s",
-		    s->cfg.forward_host, s->cfg.forward_port);
+		s->fwd_fd = fd;
+		forward_failed(s, now, strerror(errno));
 	}
 	freeaddrinfo(res);
 }
@@ -779,6 +822,8 @@ static void forward_flush(sx_server *s)
 	uint8_t buf[4096];
 	const uint8_t *msg;
 	size_t len;
+	if (s->fwd_connecting)
+		return;
 	while (s->fwd_fd >= 0 && s->fwd_pos < s->fwd_out.len) {
 		ssize_t n = send(s->fwd_fd, s->fwd_out.data + s->fwd_pos,
 				 s->fwd_out.len - s->fwd_pos, MSG_NOSIGNAL);
@@ -870,7 +915,8 @@ static int one_turn(sx_server *s, int accepting, int timeout_ms)
 	}
 	if (s->fwd_fd >= 0) {
 		fds[n].fd = s->fwd_fd;
-		fds[n].events = POLLIN | (s->fwd_pos < s->fwd_out.len ? POLLOUT : 0);
+		fds[n].events = s->fwd_connecting ? POLLOUT
+						  : POLLIN | (s->fwd_pos < s->fwd_out.len ? POLLOUT : 0);
 		slots[n++] = (size_t)-2;
 	}
 	for (size_t i = 0; i < s->cfg.max_connections; i++) {

@@ -217,6 +217,20 @@ out:
 	sx_feed_close(feed);
 }
 
+/* Standard input, spooled to a temporary file when it must be read twice (--validate). */
+static void check_stdin(check_run *run)
+{
+	FILE *in = run->opt->validate ? spool_stdin() : stdin;
+	if (!in) {
+		fprintf(stderr, "syrinx check: cannot buffer standard input: %s\n", strerror(errno));
+		run->input_errors = 1;
+		return;
+	}
+	check_input(run, in, "-");
+	if (in != stdin)
+		fclose(in);
+}
+
 static int parse_disposition(const char *s)
 {
 	if (strcmp(s, "comment") == 0)
@@ -330,22 +344,12 @@ int sx_cmd_check(int argc, char **argv)
 		flush_out(&run);
 	}
 
-	if (optind >= argc) {
-		FILE *in = opt.validate ? spool_stdin() : stdin;
-		if (!in) {
-			fprintf(stderr, "syrinx check: cannot buffer standard input: %s\n",
-				strerror(errno));
-			run.input_errors = 1;
-		} else {
-			check_input(&run, in, "-");
-			if (in != stdin)
-				fclose(in);
-		}
-	}
+	if (optind >= argc)
+		check_stdin(&run);
 	for (int i = optind; i < argc; i++) {
 		FILE *fp;
 		if (strcmp(argv[i], "-") == 0) {
-			check_input(&run, stdin, "-");
+			check_stdin(&run);
 			continue;
 		}
 		fp = fopen(argv[i], "rb");

@@ -66,19 +66,6 @@ sx_feed_format sx_feed_detect(const unsigned char *b, size_t len)
 	return SX_FEED_AUTO;
 }
 
-const char *sx_feed_format_name(sx_feed_format format)
-{
-	switch (format) {
-	case SX_FEED_XML:
-		return "xml";
-	case SX_FEED_HL7:
-		return "hl7";
-	case SX_FEED_AUTO:
-		return "auto";
-	}
-	return "auto";
-}
-
 sx_status sx_feed_open(FILE *fp, const char *name, const sx_feed_options *options,
 		       sx_feed **out, sx_diag_list *diags)
 {
@@ -144,11 +131,6 @@ sx_status sx_feed_next(sx_feed *f, sx_specimen *s, sx_feed_item *item, bool *got
 		return SX_EIO;
 	}
 	return st;
-}
-
-sx_feed_format sx_feed_format_of(const sx_feed *f)
-{
-	return f->format;
 }
 
 void sx_feed_close(sx_feed *f)

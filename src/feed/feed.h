@@ -64,8 +64,6 @@ sx_status sx_feed_open(FILE *fp, const char *name, const sx_feed_options *option
 sx_status sx_feed_next(sx_feed *feed, sx_specimen *specimen, sx_feed_item *item, bool *got,
 		       sx_diag_list *diags);
 
-sx_feed_format sx_feed_format_of(const sx_feed *feed);
-const char *sx_feed_format_name(sx_feed_format format);
 void sx_feed_close(sx_feed *feed);
 
 /* Format from the first bytes of an input (exposed for tests). */

@@ -98,7 +98,8 @@ static void draw_mechanisms(const sx_estimate_input *in, sx_draw *d, const sx_sa
 		d->heparin_fraction = 0;
 }
 
-static void nominal_draw(const sx_estimate_input *in, sx_draw *d)
+/* Everything but the mechanisms' parameters at their nominal values. */
+static void base_draw(const sx_estimate_input *in, sx_draw *d)
 {
 	const sx_settings *st = in->settings;
 	const sx_specimen *s = in->specimen;
@@ -116,7 +117,6 @@ static void nominal_draw(const sx_estimate_input *in, sx_draw *d)
 	d->wall = sx_syringe_wall_defaults();
 	d->heparin = sx_heparin_defaults();
 	d->electrode = sx_electrode_defaults();
-	draw_mechanisms(in, d, NULL, 0);
 }
 
 static void sample_draw(const sx_estimate_input *in, const sx_sampler *smp, size_t i,
@@ -124,7 +124,7 @@ static void sample_draw(const sx_estimate_input *in, const sx_sampler *smp, size
 {
 	const sx_settings *st = in->settings;
 	double h = 2 * in->timeline->time_halfwidth_min, t = in->timeline->total_min;
-	nominal_draw(in, d);
+	base_draw(in, d);
 	d->metabolism.blood_vo2_37 = sx_triangular_scaled(st->blood_vo2_37, sx_sampler_u(smp, i, DIM_BLOOD_RATE));
 	d->metabolism.wbc_vo2_37 = sx_triangular_scaled(st->wbc_vo2_37, sx_sampler_u(smp, i, DIM_WBC_RATE));
 	d->metabolism.platelet_vo2_37 =

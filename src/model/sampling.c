@@ -72,11 +72,6 @@ double sx_triangular_scaled(sx_range r, double u)
 	return sx_triangular(r, u);
 }
 
-double sx_uniform(double low, double high, double u)
-{
-	return low + (high - low) * u;
-}
-
 double sx_normal_quantile(double u)
 {
 	/* Acklam's coefficients (public domain). */

@@ -45,9 +45,6 @@ double sx_triangular(sx_range r, double u);
  * median far from the nominal value); otherwise sx_triangular. */
 double sx_triangular_scaled(sx_range r, double u);
 
-/* Uniform on [low, high] at probability u. */
-double sx_uniform(double low, double high, double u);
-
 /* Standard normal quantile at u (Acklam's rational approximation, relative error
  * below 1.2e-9; refined by one Halley step with erfc). */
 double sx_normal_quantile(double u);

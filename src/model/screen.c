@@ -304,11 +304,6 @@ const sx_settings *sx_screener_settings(const sx_screener *s)
 	return &s->settings;
 }
 
-const sx_ruleset *sx_screener_ruleset(const sx_screener *s)
-{
-	return s->rules;
-}
-
 const char *sx_screener_version(const sx_screener *s)
 {
 	return s->version;

@@ -44,8 +44,6 @@ sx_status sx_screener_new(const sx_settings *settings, sx_screener **out);
 /* A screener with the ruleset of folder dir; its errors go to diags and no
  * screener is made (SX_ESYNTAX, SX_EIO). */
 sx_status sx_screener_load(const char *dir, sx_screener **out, sx_diag_list *diags);
-/* The ruleset (NULL for the model alone). */
-const struct sx_ruleset *sx_screener_ruleset(const sx_screener *screener);
 /* For the HL7 reader's site codes (context: the screener): the field a local
  * observation code maps to, or -1. */
 int sx_screener_map_code(void *screener, const char *system, const char *code);

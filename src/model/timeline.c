@@ -178,18 +178,3 @@ void sx_timeline_build(const sx_specimen *s, const sx_settings *st, sx_timeline 
 		tl->time_halfwidth_min = st->time_uncertainty_min;
 	tl->known = true;
 }
-
-void sx_timeline_rescale(sx_timeline *tl, double total_min)
-{
-	double f;
-	if (!(tl->total_min > 0))
-		return;
-	if (total_min < 0)
-		total_min = 0;
-	f = total_min / tl->total_min;
-	for (size_t i = 0; i < tl->count; i++)
-		tl->phases[i].minutes *= f;
-	if (tl->transport_min > 0)
-		tl->transport_min *= f;
-	tl->total_min = total_min;
-}

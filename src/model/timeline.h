@@ -46,10 +46,6 @@ typedef struct sx_timeline {
 void sx_timeline_build(const sx_specimen *s, const sx_settings *st, sx_timeline *tl,
 		       sx_verdict *v);
 
-/* Stretch or shrink the timeline to a total of minutes (for the time uncertainty),
- * keeping the phases' proportions. */
-void sx_timeline_rescale(sx_timeline *tl, double total_min);
-
 const char *sx_agitation_name(sx_agitation a);
 
 #endif

@@ -15,11 +15,6 @@
 #include "core/units.h"
 #include "report/report.h"
 
-static double clean(double x)
-{
-	double r = round(x * 10) / 10;
-	return r == 0.0 ? 0.0 : r;
-}
 
 static const char *choice(const sx_specimen *s, sx_field f, const char *absent)
 {
@@ -70,7 +65,7 @@ static void row_values(sx_strbuf *out, const int *shown, int only, double value,
 			continue;
 		if ((only >= 0 && m == only) || (only == -2) || (only == -1 && at_phases(m)))
 			sx_strbuf_printf(out, " %+*.1f", column_width(m),
-					 clean(only >= 0 ? value : values[m]));
+					 sx_report_round(only >= 0 ? value : values[m], 0.1));
 		else
 			sx_strbuf_printf(out, " %*s", column_width(m), "");
 	}
@@ -115,15 +110,15 @@ void sx_report_explain_text(sx_strbuf *out, const sx_specimen *s, const sx_expla
 	if (v->has_bias)
 		sx_strbuf_printf(out,
 				 "pO2 bias:     %+.1f mmHg (likely %+.1f to %+.1f); %+.2f kPa\n",
-				 clean(v->bias_mmhg.estimate), clean(v->bias_mmhg.low),
-				 clean(v->bias_mmhg.high),
+				 sx_report_round(v->bias_mmhg.estimate, 0.1), sx_report_round(v->bias_mmhg.low, 0.1),
+				 sx_report_round(v->bias_mmhg.high, 0.1),
 				 v->bias_mmhg.estimate / SX_MMHG_PER_KPA + 0.0);
 	if (v->has_before && sx_specimen_has(s, SX_F_PO2))
 		sx_strbuf_printf(out,
 				 "Reading:      %.1f mmHg; at collection likely %.1f (%.1f to %.1f) "
 				 "mmHg\n",
-				 s->number[SX_F_PO2], clean(v->po2_before_mmhg.estimate),
-				 clean(v->po2_before_mmhg.low), clean(v->po2_before_mmhg.high));
+				 s->number[SX_F_PO2], sx_report_round(v->po2_before_mmhg.estimate, 0.1),
+				 sx_report_round(v->po2_before_mmhg.low, 0.1), sx_report_round(v->po2_before_mmhg.high, 0.1));
 	if (ex->has_trace) {
 		const sx_sim_trace *t = &ex->trace;
 		double totals[SX_MECH_COUNT] = {0}, minutes = 0;

@@ -24,11 +24,6 @@ typedef struct writer {
 	unsigned nte;
 } writer;
 
-static double clean(double x, double step)
-{
-	double r = round(x / step) * step;
-	return r == 0.0 ? 0.0 : r;
-}
 
 static void sep(writer *w)
 {
@@ -87,13 +82,13 @@ static void interval(writer *w, const char *code, const char *name, const sx_est
 	snprintf(name_high, sizeof name_high, "%s, 95th percentile", name);
 
 	snprintf(sub, sizeof sub, "%u", subid_mmhg);
-	obx_number(w, code, name, sub, clean(e->estimate, 0.1), 1, "mm[Hg]");
-	obx_number(w, code_low, name_low, sub, clean(e->low, 0.1), 1, "mm[Hg]");
-	obx_number(w, code_high, name_high, sub, clean(e->high, 0.1), 1, "mm[Hg]");
+	obx_number(w, code, name, sub, sx_report_round(e->estimate, 0.1), 1, "mm[Hg]");
+	obx_number(w, code_low, name_low, sub, sx_report_round(e->low, 0.1), 1, "mm[Hg]");
+	obx_number(w, code_high, name_high, sub, sx_report_round(e->high, 0.1), 1, "mm[Hg]");
 	snprintf(sub, sizeof sub, "%u", subid_mmhg + 1);
-	obx_number(w, code, name, sub, clean(e->estimate / SX_MMHG_PER_KPA, 0.01), 2, "kPa");
-	obx_number(w, code_low, name_low, sub, clean(e->low / SX_MMHG_PER_KPA, 0.01), 2, "kPa");
-	obx_number(w, code_high, name_high, sub, clean(e->high / SX_MMHG_PER_KPA, 0.01), 2, "kPa");
+	obx_number(w, code, name, sub, sx_report_round(e->estimate / SX_MMHG_PER_KPA, 0.01), 2, "kPa");
+	obx_number(w, code_low, name_low, sub, sx_report_round(e->low / SX_MMHG_PER_KPA, 0.01), 2, "kPa");
+	obx_number(w, code_high, name_high, sub, sx_report_round(e->high / SX_MMHG_PER_KPA, 0.01), 2, "kPa");
 }
 
 /* NTE|n|L|prefix text suffix|RE (NTE-3 is FT: line breaks become \.br\). */
@@ -240,7 +235,7 @@ void sx_report_hl7(sx_strbuf *out, const sx_report_item *item, const sx_hl7_resu
 			         &v->po2_before_mmhg, 3);
 		for (size_t i = 0; i < v->mechanism_count; i++)
 			obx_number(&w, "SX-MECHANISM-BIAS", "pO2 bias from one mechanism",
-			           v->mechanisms[i].name, clean(v->mechanisms[i].bias_mmhg, 0.1), 1,
+			           v->mechanisms[i].name, sx_report_round(v->mechanisms[i].bias_mmhg, 0.1), 1,
 			           "mm[Hg]");
 		sx_strbuf_printf(out, "OBX%c%u%cCWE%cSX-DISPOSITION%cDisposition%c99SYX%c%c",
 		                 w.d->field, ++w.obx, w.d->field, w.d->field, w.d->component,

@@ -12,24 +12,19 @@
 #include "core/units.h"
 #include "report/report.h"
 
-static double clean(double x, double step)
-{
-	double r = round(x / step) * step;
-	return r == 0.0 ? 0.0 : r;
-}
 
 static void estimate_mmhg(sx_strbuf *out, const char *key, const sx_estimate *e)
 {
 	sx_strbuf_printf(out, ",\"%s\":{\"estimate\":%.1f,\"low\":%.1f,\"high\":%.1f}", key,
-			 clean(e->estimate, 0.1), clean(e->low, 0.1), clean(e->high, 0.1));
+			 sx_report_round(e->estimate, 0.1), sx_report_round(e->low, 0.1), sx_report_round(e->high, 0.1));
 }
 
 static void estimate_kpa(sx_strbuf *out, const char *key, const sx_estimate *e)
 {
 	sx_strbuf_printf(out, ",\"%s\":{\"estimate\":%.2f,\"low\":%.2f,\"high\":%.2f}", key,
-			 clean(e->estimate / SX_MMHG_PER_KPA, 0.01),
-			 clean(e->low / SX_MMHG_PER_KPA, 0.01),
-			 clean(e->high / SX_MMHG_PER_KPA, 0.01));
+			 sx_report_round(e->estimate / SX_MMHG_PER_KPA, 0.01),
+			 sx_report_round(e->low / SX_MMHG_PER_KPA, 0.01),
+			 sx_report_round(e->high / SX_MMHG_PER_KPA, 0.01));
 }
 
 static void key_string(sx_strbuf *out, const char *key, const char *value)
@@ -93,7 +88,7 @@ void sx_report_json(sx_strbuf *out, const sx_report_item *item)
 		sx_strbuf_puts(out, i ? ",{\"name\":" : "{\"name\":");
 		sx_strbuf_json_string(out, v->mechanisms[i].name);
 		sx_strbuf_printf(out, ",\"bias_mmhg\":%.1f}",
-				 clean(v->mechanisms[i].bias_mmhg, 0.1));
+				 sx_report_round(v->mechanisms[i].bias_mmhg, 0.1));
 	}
 	sx_strbuf_puts(out, "],\"reasons\":[");
 	for (size_t i = 0; i < v->reason_count; i++) {

@@ -9,6 +9,7 @@
 #ifndef SX_REPORT_H
 #define SX_REPORT_H
 
+#include <math.h>
 #include <stddef.h>
 
 #include "core/diag.h"
@@ -21,6 +22,14 @@
 	"Decision support for the laboratory's own acceptance procedure. The estimates are " \
 	"not corrected results and are not for clinical use; local policy and the "          \
 	"laboratory director decide."
+
+/* x rounded to a multiple of step (0.1 mmHg, 0.01 kPa), and never "-0.0": what every
+ * reporter prints, so that the same verdict reads the same everywhere. */
+static inline double sx_report_round(double x, double step)
+{
+	double r = round(x / step) * step;
+	return r == 0.0 ? 0.0 : r;
+}
 
 /* One specimen as the reporters see it. verdict is NULL when not screened;
  * errors points at the input errors of this specimen (may be 0 of them). */

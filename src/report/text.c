@@ -12,11 +12,6 @@
 #include "core/units.h"
 #include "report/report.h"
 
-static double clean(double x, double step)
-{
-	double r = round(x / step) * step;
-	return r == 0.0 ? 0.0 : r;
-}
 
 void sx_report_text_header(sx_strbuf *out)
 {
@@ -62,10 +57,10 @@ void sx_report_text(sx_strbuf *out, const sx_report_item *item)
 		sx_strbuf_printf(out,
 				 "  pO2 bias:   %+.1f mmHg (likely %+.1f to %+.1f); %+.2f kPa "
 				 "(%+.2f to %+.2f)\n",
-				 clean(b->estimate, 0.1), clean(b->low, 0.1), clean(b->high, 0.1),
-				 clean(b->estimate / SX_MMHG_PER_KPA, 0.01),
-				 clean(b->low / SX_MMHG_PER_KPA, 0.01),
-				 clean(b->high / SX_MMHG_PER_KPA, 0.01));
+				 sx_report_round(b->estimate, 0.1), sx_report_round(b->low, 0.1), sx_report_round(b->high, 0.1),
+				 sx_report_round(b->estimate / SX_MMHG_PER_KPA, 0.01),
+				 sx_report_round(b->low / SX_MMHG_PER_KPA, 0.01),
+				 sx_report_round(b->high / SX_MMHG_PER_KPA, 0.01));
 	} else {
 		sx_strbuf_puts(out, "  pO2 bias:   not estimated (see notes)\n");
 	}
@@ -73,9 +68,9 @@ void sx_report_text(sx_strbuf *out, const sx_report_item *item)
 		sx_strbuf_printf(out,
 				 "  reading:    %.1f mmHg; at collection likely %.1f (%.1f to "
 				 "%.1f) mmHg\n",
-				 s->number[SX_F_PO2], clean(v->po2_before_mmhg.estimate, 0.1),
-				 clean(v->po2_before_mmhg.low, 0.1),
-				 clean(v->po2_before_mmhg.high, 0.1));
+				 s->number[SX_F_PO2], sx_report_round(v->po2_before_mmhg.estimate, 0.1),
+				 sx_report_round(v->po2_before_mmhg.low, 0.1),
+				 sx_report_round(v->po2_before_mmhg.high, 0.1));
 	for (size_t i = 0; i < v->reason_count; i++) {
 		const sx_reason *r = &v->reasons[i];
 		sx_strbuf_printf(out, "  %-11s %s (%s; rule %s)\n",
@@ -83,7 +78,7 @@ void sx_report_text(sx_strbuf *out, const sx_report_item *item)
 	}
 	for (size_t i = 0; i < v->mechanism_count; i++)
 		sx_strbuf_printf(out, "  %-11s %s %+.1f mmHg\n", i == 0 ? "mechanisms:" : "",
-				 v->mechanisms[i].name, clean(v->mechanisms[i].bias_mmhg, 0.1));
+				 v->mechanisms[i].name, sx_report_round(v->mechanisms[i].bias_mmhg, 0.1));
 	for (size_t i = 0; i < v->warning_count; i++)
 		sx_strbuf_printf(out, "  %-11s %s\n", i == 0 ? "note:" : "", v->warnings[i]);
 	sx_strbuf_putc(out, '\n');
